@@ -1,0 +1,529 @@
+"""The design file's schema: every key, its unit, its default, its checks.
+
+A design is validated by pydantic models.  Physical values are written with
+units in YAML (``"27 m"``) and held here as SI floats; :func:`quantity`
+declares such a field.  Each field's ``json_schema_extra`` carries the
+dimension and display unit, which the README key reference
+(:mod:`necflow.config.reference`) and the resolved-design writer read, so
+the documentation and the schema cannot drift apart (a test checks it).
+
+Coordinates: x along the span of the antenna, y across it, z up; the ground
+plane (when there is one) is z = 0.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Annotated, Any, Literal, Union
+
+from pydantic import (BaseModel, BeforeValidator, ConfigDict, Discriminator,
+                      Field, Tag, field_validator, model_validator)
+
+from necflow import units
+
+# ----------------------------------------------------------------------------
+# Field helpers
+
+
+def _to_si(dimension: str):
+    def convert(v: Any) -> float:
+        try:
+            return units.parse(v, dimension)
+        except units.UnitError as exc:
+            raise ValueError(str(exc)) from None
+    return convert
+
+
+def quantity(dimension: str, *, default: Any = ..., unit: str | None = None,
+             description: str = "", gt: float | None = None,
+             ge: float | None = None, lt: float | None = None,
+             le: float | None = None) -> Any:
+    """A field that holds a physical value with a unit (SI float inside).
+
+    ``default`` is given as text with a unit (``"50 ohm"``) so that the README
+    shows it as the user writes it; it is converted when the model is built.
+    """
+    display = unit or units._DISPLAY[dimension]
+    extra = {"dimension": dimension, "unit": display}
+    kwargs: dict[str, Any] = {"description": description, "json_schema_extra": extra}
+    for name, bound in (("gt", gt), ("ge", ge), ("lt", lt), ("le", le)):
+        if bound is not None:
+            kwargs[name] = bound
+    if default is ...:
+        return Field(..., **kwargs)
+    if default is None:
+        return Field(None, **kwargs)
+    extra["default_text"] = default
+    return Field(units.parse(default, dimension), **kwargs)
+
+
+Length = Annotated[float, BeforeValidator(_to_si("length"))]
+Frequency = Annotated[float, BeforeValidator(_to_si("frequency"))]
+Resistance = Annotated[float, BeforeValidator(_to_si("resistance"))]
+Power = Annotated[float, BeforeValidator(_to_si("power"))]
+Conductivity = Annotated[float, BeforeValidator(_to_si("conductivity"))]
+Voltage = Annotated[float, BeforeValidator(_to_si("voltage"))]
+Current = Annotated[float, BeforeValidator(_to_si("current"))]
+Angle = Annotated[float, BeforeValidator(_to_si("angle"))]
+
+
+def _fraction_or_length(v: Any) -> float | tuple[str, float]:
+    """A feed position: a plain fraction 0..1 of the wire, a percentage
+    (``"33 %"``) or a distance from the wire's start (``"9 m"``)."""
+    if isinstance(v, (int, float)) and not isinstance(v, bool):
+        return ("fraction", float(v))
+    if isinstance(v, str) and v.strip().endswith("%"):
+        try:
+            return ("fraction", float(v.strip()[:-1]) / 100.0)
+        except ValueError:
+            raise ValueError(f"cannot read '{v}' as a percentage") from None
+    try:
+        return ("distance", units.parse(v, "length"))
+    except units.UnitError:
+        raise ValueError(
+            f"'{v}' is not a feed position; give a fraction of the wire (0.33), "
+            "a percentage ('33 %') or a distance from the wire's start ('9 m')") from None
+
+
+Position = Annotated[tuple[str, float], BeforeValidator(_fraction_or_length)]
+
+
+class Strict(BaseModel):
+    """Base: unknown keys are errors, values are re-validated on assignment."""
+
+    model_config = ConfigDict(extra="forbid", validate_assignment=True,
+                              populate_by_name=True)
+
+
+# ----------------------------------------------------------------------------
+# Bands
+
+
+class BandSpec(Strict):
+    """One band to evaluate: a name from the band table, or explicit edges."""
+
+    name: str = Field(..., description="Band name: one from the built-in table "
+                      "(160m, 80m, 60m, 40m, 30m, 20m, 17m, 15m, 12m, 10m) or your own "
+                      "label when you give the edges")
+    low: Frequency | None = quantity("frequency", default=None,
+                                     description="Lower band edge (default: from the band table)")
+    high: Frequency | None = quantity("frequency", default=None,
+                                      description="Upper band edge (default: from the band table)")
+    points: int = Field(11, ge=2, le=1001,
+                        description="Frequencies evaluated across the band, edges included")
+    weight: float = Field(1.0, ge=0.0, description="Weight of the band in scores")
+
+    @model_validator(mode="after")
+    def _edges(self) -> "BandSpec":
+        if (self.low is None) != (self.high is None):
+            raise ValueError("give both 'low' and 'high', or neither (edges from the band table)")
+        if self.low is not None:
+            if self.low <= 0 or self.high <= 0:
+                raise ValueError("band edges must be positive frequencies")
+            if self.high <= self.low:
+                raise ValueError(
+                    f"band edges are reversed or equal: low {self.low/1e6:g} MHz is not below "
+                    f"high {self.high/1e6:g} MHz")
+        return self
+
+
+def _band_entry(v: Any) -> Any:
+    if isinstance(v, str):
+        return {"name": v}
+    return v
+
+
+BandEntry = Annotated[BandSpec, BeforeValidator(_band_entry)]
+
+
+# ----------------------------------------------------------------------------
+# Antenna
+
+WIRE_MATERIALS = ("copper", "hard-drawn-copper", "aluminium", "copper-clad-steel",
+                  "stainless-steel", "lossless")
+
+
+class WireSpec(Strict):
+    """Conductor of the radiator."""
+
+    diameter: Length = quantity("length", default="2 mm", unit="mm", gt=0,
+                                description="Conductor diameter")
+    material: str = Field("copper", description="Conductor material, for conductor loss: "
+                          + ", ".join(WIRE_MATERIALS))
+
+    @field_validator("material")
+    @classmethod
+    def _material(cls, v: str) -> str:
+        if v not in WIRE_MATERIALS:
+            raise ValueError(f"unknown material '{v}'; expected one of {', '.join(WIRE_MATERIALS)}")
+        return v
+
+
+class Doublet(Strict):
+    """A straight, horizontal, centre-fed wire."""
+
+    shape: Literal["doublet"]
+    span: Length = quantity("length", gt=0, description="Tip-to-tip length of the wire")
+    height: Length = quantity("length", gt=0, description="Height of the wire above ground")
+    wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
+
+
+class OffCentre(Strict):
+    """A straight, horizontal wire fed away from its centre."""
+
+    shape: Literal["off-centre"]
+    span: Length = quantity("length", gt=0, description="Tip-to-tip length of the wire")
+    height: Length = quantity("length", gt=0, description="Height of the wire above ground")
+    feed_position: Position = Field(..., description="Feed point from the left tip: a fraction "
+                                    "(0.33), a percentage ('33 %') or a distance ('13.4 m')",
+                                    json_schema_extra={"unit": "fraction or m"})
+    wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
+
+
+class InvertedV(Strict):
+    """Two straight legs sloping down from a centre-fed apex."""
+
+    shape: Literal["inverted-v"]
+    apex_height: Length = quantity("length", gt=0, description="Height of the feed point (apex)")
+    leg: Length = quantity("length", gt=0, description="Length of each leg along the wire")
+    end_height: Length | None = quantity("length", default=None, ge=0,
+                                         description="Height of the leg ends (give this or 'droop')")
+    droop: Angle | None = quantity("angle", default=None, ge=0,
+                                   description="Angle of each leg below horizontal "
+                                   "(give this or 'end_height')")
+    wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
+
+    @model_validator(mode="after")
+    def _one_of(self) -> "InvertedV":
+        if (self.end_height is None) == (self.droop is None):
+            raise ValueError("give exactly one of 'end_height' and 'droop'")
+        if self.droop is not None and self.droop >= 1.5707963267948966:
+            raise ValueError("droop must be below 90 deg")
+        return self
+
+
+def _point(v: Any) -> tuple[float, float, float]:
+    if not isinstance(v, (list, tuple)) or len(v) != 3:
+        raise ValueError("a point is a list of three lengths [x, y, z], e.g. ['0 m', '0 m', '10 m']")
+    try:
+        return tuple(units.parse(c, "length") for c in v)  # type: ignore[return-value]
+    except units.UnitError as exc:
+        raise ValueError(str(exc)) from None
+
+
+Point = Annotated[tuple[float, float, float], BeforeValidator(_point)]
+
+
+class WireItem(Strict):
+    """One straight wire of an explicit wire list."""
+
+    name: str | None = Field(None, description="Label to refer to the wire (default: its "
+                             "1-based number)")
+    start: Point = Field(..., description="Start point [x, y, z]",
+                         json_schema_extra={"unit": "m"})
+    end: Point = Field(..., description="End point [x, y, z]", json_schema_extra={"unit": "m"})
+    diameter: Length | None = quantity("length", default=None, unit="mm", gt=0,
+                                       description="Diameter (default: the list's 'wire.diameter')")
+
+    @model_validator(mode="after")
+    def _length(self) -> "WireItem":
+        if sum((a - b) ** 2 for a, b in zip(self.start, self.end)) <= 1e-12:
+            raise ValueError("wire has zero length: start and end are the same point")
+        return self
+
+
+class FeedPoint(Strict):
+    """Where the feed chain connects in an explicit wire list."""
+
+    wire: str | int = Field(..., description="Wire name, or its 1-based number in the list")
+    position: Position = Field(0.5, description="Along the wire from its start: a fraction, "
+                               "a percentage or a distance",
+                               json_schema_extra={"unit": "fraction or m"})
+
+
+class WireList(Strict):
+    """Any structure of straight wires."""
+
+    shape: Literal["wires"]
+    wires: list[WireItem] = Field(..., min_length=1, description="The wires")
+    feed: FeedPoint = Field(..., description="Feed point")
+    wire: WireSpec = Field(default_factory=WireSpec, description="Default conductor")
+
+    @model_validator(mode="after")
+    def _feed_wire(self) -> "WireList":
+        names = [w.name for w in self.wires if w.name]
+        if len(names) != len(set(names)):
+            dup = sorted({n for n in names if names.count(n) > 1})
+            raise ValueError(f"duplicate wire name(s): {', '.join(dup)}")
+        ref = self.feed.wire
+        if isinstance(ref, int):
+            if not 1 <= ref <= len(self.wires):
+                raise ValueError(f"feed wire {ref} does not exist; the list has "
+                                 f"{len(self.wires)} wire(s), numbered from 1")
+        elif ref not in names:
+            raise ValueError(f"feed wire '{ref}' is not a wire name; names are: "
+                             f"{', '.join(names) or '(none given)'}")
+        return self
+
+    def feed_index(self) -> int:
+        """0-based index of the fed wire."""
+        ref = self.feed.wire
+        if isinstance(ref, int):
+            return ref - 1
+        return [w.name for w in self.wires].index(ref)
+
+
+Antenna = Annotated[Union[Doublet, OffCentre, InvertedV, WireList],
+                    Field(discriminator="shape")]
+
+# ----------------------------------------------------------------------------
+# Ground
+
+GROUND_MODELS = ("free-space", "perfect", "reflection", "sommerfeld")
+
+
+class Ground(Strict):
+    """The ground under the antenna."""
+
+    model: Literal["free-space", "perfect", "reflection", "sommerfeld"] = Field(
+        ..., description="free-space; perfect; reflection (reflection-coefficient "
+        "approximation, for wires well above ground); sommerfeld (Sommerfeld-Norton, "
+        "accurate near the ground)")
+    surface: str | None = Field(None, description="Named surface from the ground catalog "
+                                "(ITU-R P.527), e.g. medium-dry; or give permittivity and "
+                                "conductivity")
+    permittivity: float | None = Field(None, gt=0, description="Relative permittivity of the soil")
+    conductivity: Conductivity | None = quantity("conductivity", default=None, gt=0,
+                                                 description="Soil conductivity")
+
+    @model_validator(mode="after")
+    def _constants(self) -> "Ground":
+        finite = self.model in ("reflection", "sommerfeld")
+        given = (self.permittivity is not None, self.conductivity is not None)
+        if not finite:
+            if self.surface or any(given):
+                raise ValueError(f"a '{self.model}' ground takes no surface, permittivity or "
+                                 "conductivity")
+            return self
+        if self.surface and any(given):
+            raise ValueError("give either 'surface' or 'permittivity' and 'conductivity', not both")
+        if not self.surface and not all(given):
+            raise ValueError(f"a '{self.model}' ground needs 'surface' (e.g. medium-dry) or both "
+                             "'permittivity' and 'conductivity'")
+        return self
+
+
+# ----------------------------------------------------------------------------
+# Feed chain
+
+
+class LossPoint(Strict):
+    """One matched-loss figure of a custom line."""
+
+    frequency: Frequency = quantity("frequency", gt=0, description="Frequency of the figure")
+    db: float = Field(..., ge=0, description="Matched loss in dB over the length 'per'")
+    per: Length = quantity("length", default="100 ft", unit="ft", gt=0,
+                           description="Length the loss figure refers to")
+
+
+class LineElement(Strict):
+    """A length of transmission line: from the catalog, or custom."""
+
+    id: str = Field(..., description="Unique name of the element")
+    line: str = Field(..., description="Line type from the catalog (e.g. window-450, rg-213) "
+                      "or 'custom'")
+    length: Length = quantity("length", gt=0, description="Physical length")
+    impedance: Resistance | None = quantity("resistance", default=None, gt=0,
+                                            description="Characteristic impedance (custom lines; "
+                                            "overrides the catalog)")
+    velocity_factor: float | None = Field(None, gt=0, le=1,
+                                          description="Velocity factor (custom lines; overrides "
+                                          "the catalog)")
+    loss: list[LossPoint] | None = Field(None, description="Matched loss at one or more "
+                                         "frequencies (custom lines; overrides the catalog)")
+    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0,
+                                              description="Peak voltage rating, for stress margins")
+
+    @model_validator(mode="after")
+    def _custom(self) -> "LineElement":
+        if self.line == "custom":
+            missing = [k for k in ("impedance", "velocity_factor", "loss")
+                       if getattr(self, k) is None]
+            if missing:
+                raise ValueError("a custom line needs " + ", ".join(f"'{m}'" for m in missing))
+        return self
+
+
+PART_KINDS = {"capacitor": "capacitance", "inductor": "inductance", "resistor": "resistance"}
+
+
+class PartElement(Strict):
+    """A lumped capacitor, inductor or resistor in series or across the line."""
+
+    id: str = Field(..., description="Unique name of the element")
+    series: Literal["capacitor", "inductor", "resistor"] | None = Field(
+        None, description="A part in series with the line: capacitor, inductor or resistor")
+    shunt: Literal["capacitor", "inductor", "resistor"] | None = Field(
+        None, description="A part across the line: capacitor, inductor or resistor")
+    value: float = Field(..., description="Capacitance (pF, nF), inductance (uH) or "
+                         "resistance (ohm), with its unit",
+                         json_schema_extra={"unit": "pF / uH / ohm"})
+    q: float | None = Field(None, gt=0, description="Unloaded Q of a capacitor or inductor "
+                            "(default: 1000 for capacitors, 200 for inductors)")
+    esr: Resistance | None = quantity("resistance", default=None, ge=0,
+                                      description="Equivalent series resistance (instead of Q)")
+    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0,
+                                              description="Peak voltage rating")
+    current_rating: Current | None = quantity("current", default=None, gt=0,
+                                              description="RMS current rating")
+    power_rating: Power | None = quantity("power", default=None, gt=0,
+                                          description="Dissipation rating")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _value_unit(cls, data: Any) -> Any:
+        if not isinstance(data, dict):
+            return data
+        kind = data.get("series") or data.get("shunt")
+        if kind in PART_KINDS and "value" in data:
+            try:
+                data = dict(data)
+                data["value"] = units.parse(data["value"], PART_KINDS[kind])
+            except units.UnitError as exc:
+                raise ValueError(f"value: {exc}") from None
+        return data
+
+    @model_validator(mode="after")
+    def _placement(self) -> "PartElement":
+        if (self.series is None) == (self.shunt is None):
+            raise ValueError("give exactly one of 'series' and 'shunt'")
+        if self.value <= 0:
+            raise ValueError("value must be positive")
+        if self.q is not None and self.esr is not None:
+            raise ValueError("give 'q' or 'esr', not both")
+        if self.kind == "resistor" and (self.q is not None or self.esr is not None):
+            raise ValueError("a resistor takes no 'q' or 'esr'")
+        return self
+
+    @property
+    def kind(self) -> str:
+        return self.series or self.shunt  # type: ignore[return-value]
+
+    @property
+    def placement(self) -> str:
+        return "series" if self.series else "shunt"
+
+
+def _ratio(v: Any) -> float:
+    if isinstance(v, (int, float)) and not isinstance(v, bool):
+        return float(v)
+    if isinstance(v, str):
+        m = re.fullmatch(r"\s*([0-9.]+)\s*:\s*([0-9.]+)\s*", v)
+        if m:
+            a, b = float(m.group(1)), float(m.group(2))
+            if a > 0 and b > 0:
+                return a / b
+    raise ValueError(f"'{v}' is not an impedance ratio; write it as '4:1' (antenna side : radio side)")
+
+
+class TransformerElement(Strict):
+    """An impedance transformer or balun."""
+
+    id: str = Field(..., description="Unique name of the element")
+    transformer: Literal["balun", "unun", "transformer"] = Field(
+        ..., description="Kind: balun, unun or transformer (for the report; the model is the same)")
+    ratio: Annotated[float, BeforeValidator(_ratio)] = Field(
+        1.0, gt=0, description="Impedance ratio, antenna side : radio side (e.g. '4:1')",
+        json_schema_extra={"default_text": "1:1"})
+    loss: float = Field(0.1, ge=0, lt=10, description="Matched insertion loss in dB")
+    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0,
+                                              description="Peak voltage rating")
+    power_rating: Power | None = quantity("power", default=None, gt=0,
+                                          description="Power rating")
+
+
+def _element_tag(v: Any) -> str | None:
+    if isinstance(v, dict):
+        for key in ("line", "series", "shunt", "transformer"):
+            if key in v:
+                return "part" if key in ("series", "shunt") else key
+        return None
+    for key, tag in (("line", "line"), ("transformer", "transformer")):
+        if hasattr(v, key) and getattr(v, key) is not None:
+            return tag
+    return "part"
+
+
+Element = Annotated[Union[Annotated[LineElement, Tag("line")],
+                          Annotated[PartElement, Tag("part")],
+                          Annotated[TransformerElement, Tag("transformer")]],
+                    Discriminator(_element_tag, custom_error_type="element_kind",
+                                  custom_error_message="an element needs one of 'line', "
+                                  "'series', 'shunt' or 'transformer'")]
+
+
+# ----------------------------------------------------------------------------
+# Radio, goal, model settings
+
+
+class Radio(Strict):
+    """The radio at the end of the feed chain."""
+
+    impedance: Resistance = quantity("resistance", default="50 ohm", gt=0,
+                                     description="Reference impedance the radio wants")
+    power: Power = quantity("power", default="100 W", gt=0,
+                            description="Available power (carrier or PEP) for stress figures")
+
+
+class Goal(Strict):
+    """What a usable result is."""
+
+    swr_limit: float = Field(2.0, gt=1, description="Highest acceptable SWR at the radio")
+
+
+class Cautions(Strict):
+    """Thresholds at which reports warn."""
+
+    voltage: Voltage = quantity("voltage", default="1 kV", unit="V", gt=0,
+                                description="Peak RF voltage on any part or line that draws a "
+                                "caution")
+
+
+class ModelSettings(Strict):
+    """How the wires are cut into segments."""
+
+    segments_per_wavelength: float = Field(
+        20.0, ge=10, le=200, description="Segments per wavelength at the highest frequency "
+        "(20 keeps segments at 0.05 wavelength; at least 10)")
+    max_segments: int = Field(2000, ge=10, le=20000,
+                              description="Refuse a model needing more segments than this")
+
+
+class Design(Strict):
+    """A complete antenna system: radiator, ground, feed chain and radio."""
+
+    name: str = Field(..., min_length=1, description="Name of the design (used in run folders)")
+    description: str = Field("", description="Free text")
+    region: Literal[1, 2, 3] = Field(2, description="ITU region of the built-in band table")
+    bands: list[BandEntry] = Field(..., min_length=1, description="Bands to evaluate: names "
+                                   "from the band table, or entries with name/low/high/points/weight")
+    antenna: Antenna = Field(..., description="The radiator")
+    ground: Ground = Field(..., description="The ground")
+    feed: list[Element] = Field(..., description="Feed chain from the antenna toward the radio "
+                                "(an empty list feeds the antenna directly)")
+    radio: Radio = Field(default_factory=Radio, description="The radio")
+    goal: Goal = Field(default_factory=Goal, description="What counts as usable")
+    cautions: Cautions = Field(default_factory=Cautions, description="Warning thresholds")
+    model: ModelSettings = Field(default_factory=ModelSettings, description="Segmentation")
+
+    @model_validator(mode="after")
+    def _unique_ids(self) -> "Design":
+        ids = [e.id for e in self.feed]
+        dup = sorted({i for i in ids if ids.count(i) > 1})
+        if dup:
+            raise ValueError(f"duplicate element id(s) in feed: {', '.join(dup)}")
+        names = [b.name for b in self.bands]
+        dupb = sorted({n for n in names if names.count(n) > 1})
+        if dupb:
+            raise ValueError(f"band(s) listed twice: {', '.join(dupb)}")
+        return self

@@ -1,0 +1,70 @@
+"""The one exception family of necflow.
+
+Every error a user can cause is a :class:`NecflowError`; the command line
+maps each class to an exit status in one place (``necflow.cli``) and prints
+``str(error)`` as a single line.  Nothing else in the package calls
+``sys.exit``.
+"""
+
+from __future__ import annotations
+
+
+class NecflowError(Exception):
+    """Base class of every error necflow reports to its user."""
+
+    exit_code = 1
+
+
+class ConfigError(NecflowError):
+    """A design file (or other user input file) is malformed or invalid.
+
+    Parameters
+    ----------
+    message : str
+        What is wrong and what is expected, in one sentence.
+    file : str, optional
+        Path of the file as the user named it.
+    line : int, optional
+        1-based line in that file.
+    field : str, optional
+        Dotted path of the field, e.g. ``antenna.span`` or ``feed[2].value``.
+    """
+
+    exit_code = 2
+
+    def __init__(self, message: str, *, file: str | None = None,
+                 line: int | None = None, field: str | None = None):
+        self.message = message
+        self.file = file
+        self.line = line
+        self.field = field
+        super().__init__(self.format())
+
+    def format(self) -> str:
+        where = ""
+        if self.file:
+            where = self.file
+            if self.line:
+                where += f":{self.line}"
+            where += ": "
+        what = f"{self.field}: " if self.field else ""
+        return f"{where}{what}{self.message}".replace("\n", " ")
+
+
+class ModelError(NecflowError):
+    """A valid design that cannot be turned into a sound wire model
+    (for example more segments than the configured limit)."""
+
+    exit_code = 2
+
+
+class EngineError(NecflowError):
+    """The method-of-moments engine failed; the message says on what."""
+
+    exit_code = 3
+
+
+class NecflowWarning(UserWarning):
+    """Something the user should know that does not stop the run (for
+    example frequencies outside the range a catalog line's data cover).
+    The command line prints each as one ``warning:`` line."""
