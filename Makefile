@@ -1,0 +1,28 @@
+# necflow: the two commands a user needs (`make demo`, `make test`) plus helpers.
+# Each target creates or reuses the virtual environment in $(VENV).
+
+PYTHON ?= python3
+VENV   ?= .venv
+PY     := $(VENV)/bin/python
+STAMP  := $(VENV)/.necflow-installed
+
+.PHONY: demo test check-configs docs clean
+
+$(STAMP): pyproject.toml
+	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install --quiet --upgrade pip
+	$(PY) -m pip install --quiet -e '.[test]'
+	@touch $(STAMP)
+
+demo: $(STAMP)
+	$(VENV)/bin/necflow evaluate configs/demo.yaml
+
+test: $(STAMP)
+	$(PY) -m pytest -q
+
+# Regenerate the design-key reference in README.md from the schema.
+docs: $(STAMP)
+	$(PY) -m necflow.config.reference --write README.md
+
+clean:
+	rm -rf $(VENV) build *.egg-info .pytest_cache

@@ -1,0 +1,168 @@
+"""The ``necflow`` command: one sub-command per job, thin.
+
+Each sub-command parses its arguments, calls the library and prints.  Errors
+the user can cause arrive as :class:`necflow.errors.NecflowError` and are
+mapped to one line on stderr and an exit status here, and only here:
+
+====  ==========================================================
+0     success
+1     ``check`` found a modelling rule broken at error level
+2     bad input (design file, arguments, missing files)
+3     the engine failed on a valid model
+70    an internal error (a bug: rerun with ``--debug`` and report it)
+130   interrupted
+====  ==========================================================
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+import traceback
+import warnings
+from pathlib import Path
+
+from necflow import __version__
+from necflow.errors import NecflowError, NecflowWarning
+
+SAFETY_LINE = ("caution: high RF voltages appear on series capacitors and open-wire line; "
+               "keep antennas clear of power lines, mind RF exposure and lightning, and "
+               "follow local codes and licensed practice.")
+
+
+def _parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="necflow",
+        description="Model an HF wire antenna with its feed system: SWR, impedances and "
+        "the full loss budget from a YAML design file.")
+    p.add_argument("--version", action="version", version=f"necflow {__version__}")
+    p.add_argument("--debug", action="store_true",
+                   help="show Python tracebacks for errors")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND")
+    sub.required = True
+
+    c = sub.add_parser("check", help="validate a design and print its model summary and "
+                       "every modelling rule it breaks")
+    c.add_argument("design", help="design file (YAML)")
+    c.set_defaults(func=cmd_check)
+
+    e = sub.add_parser("evaluate", help="solve a design and write its run folder")
+    e.add_argument("design", help="design file (YAML)")
+    e.add_argument("--out", metavar="DIR", help="run folder (default runs/<name>-<timestamp>)")
+    e.add_argument("--json", action="store_true",
+                   help="print results.json to stdout instead of the table")
+    e.set_defaults(func=cmd_evaluate)
+    return p
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    text = str(message).replace("\n", " ")
+    prefix = "warning" if issubclass(category, NecflowWarning) else category.__name__
+    print(f"necflow: {prefix}: {text}", file=sys.stderr)
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Entry point; returns the exit status."""
+    argv = list(sys.argv[1:] if argv is None else argv)
+    args = _parser().parse_args(argv)
+    old = warnings.showwarning
+    warnings.showwarning = _show_warning
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("default", NecflowWarning)
+            return int(args.func(args) or 0)
+    except NecflowError as exc:
+        if args.debug:
+            traceback.print_exc()
+        print(f"necflow: error: {exc}", file=sys.stderr)
+        return exc.exit_code
+    except KeyboardInterrupt:
+        print("necflow: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # a bug, not a user error: still one line by default
+        if args.debug:
+            traceback.print_exc()
+        print(f"necflow: internal error: {type(exc).__name__}: {exc} "
+              "(rerun with --debug for the traceback)".replace("\n", " "), file=sys.stderr)
+        return 70
+    finally:
+        warnings.showwarning = old
+
+
+# ----------------------------------------------------------------------------
+# Sub-commands
+
+
+def cmd_check(args) -> int:
+    from necflow.catalog.bands import resolve_bands
+    from necflow.config.load import load_design
+    from necflow.model import build_model, check_rules, summarize
+    from necflow.pipeline import band_points
+
+    design = load_design(args.design)
+    f, _ = band_points(resolve_bands(design))
+    f_min, f_max = float(f.min()), float(f.max())
+    model = build_model(design, f_max)
+    summary = summarize(model, design, f_min, f_max)
+    findings = check_rules(model, design, f_min, f_max)
+    print(f"{args.design}: design '{design.name}' is valid.")
+    for line in summary.format():
+        print(line)
+    if not findings:
+        print("Modelling rules: all satisfied.")
+    for fd in findings:
+        where = f" [{fd.wire}]" if getattr(fd, "wire", None) else ""
+        print(f"{fd.severity}: {fd.rule}{where}: {fd.message}")
+    return 1 if any(fd.severity == "error" for fd in findings) else 0
+
+
+def cmd_evaluate(args) -> int:
+    from rich.console import Console
+
+    from necflow.config.load import load_design
+    from necflow.config.resolve import config_sha256, resolved_yaml
+    from necflow.pipeline import evaluate
+    from necflow.report import results, run_folder
+    from necflow.report.plots import save_swr_png
+    from necflow.report.tables import band_table
+
+    started = run_folder.now_utc()
+    design = load_design(args.design)
+    sha = config_sha256(Path(args.design))
+    evaluation = evaluate(design)
+    out = Path(args.out) if args.out else run_folder.default_run_dir(design.name)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise NecflowError(f"cannot create run folder {out}: {exc.strerror}") from None
+    doc = results.results_document(evaluation, config_sha256=sha)
+    (out / "design.resolved.yaml").write_text(resolved_yaml(design), encoding="utf-8")
+    results.write_json(doc, out / "results.json")
+    (out / "results.csv").write_text(results.csv_text(doc), encoding="utf-8")
+    save_swr_png(evaluation, out / "swr.png")
+    run_folder.write_manifest(out, config_sha256=sha, config_path=str(args.design),
+                              started=started, finished=run_folder.now_utc(),
+                              argv=["necflow", *sys.argv[1:]])
+    if args.json:
+        json.dump(doc, sys.stdout, indent=1)
+        print()
+        return 0
+    console = Console(width=120, highlight=False)
+    for fd in evaluation.findings:
+        if fd.severity != "note":
+            console.print(f"{fd.severity}: {fd.rule}: {fd.message}")
+    console.print(band_table(evaluation.band_summaries(), design.goal.swr_limit,
+                             title=f"{design.name}: {len(evaluation.frequency_hz)} points, "
+                             f"{design.radio.power:g} W from a {design.radio.impedance:g} ohm "
+                             "radio"))
+    for c in evaluation.cautions:
+        console.print(f"caution: {c}")
+    if evaluation.cautions:
+        console.print(SAFETY_LINE)
+    console.print(f"run folder: {out}")
+    return 0
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

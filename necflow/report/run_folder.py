@@ -1,0 +1,62 @@
+"""The run folder: everything one evaluation leaves behind.
+
+``runs/<name>-<UTC timestamp>/`` holds ``design.resolved.yaml`` (every default
+filled in, with units), ``manifest.json`` (versions, config hash, command
+line, times), ``results.json``, ``results.csv`` and ``swr.png``.
+"""
+
+from __future__ import annotations
+
+import json
+import platform
+import re
+import sys
+from datetime import datetime, timezone
+from importlib import metadata
+from pathlib import Path
+
+from necflow import __version__
+
+
+def versions() -> dict[str, str]:
+    """Versions of necflow and the libraries that shape its numbers."""
+    out = {"necflow": __version__, "python": platform.python_version()}
+    for dist in ("PyNEC", "numpy", "scipy", "optuna", "pydantic", "pint", "matplotlib"):
+        try:
+            out[dist] = metadata.version(dist)
+        except metadata.PackageNotFoundError:
+            out[dist] = "not installed"
+    return out
+
+
+def now_utc() -> datetime:
+    return datetime.now(timezone.utc)
+
+
+def default_run_dir(name: str, base: Path = Path("runs"), when: datetime | None = None) -> Path:
+    """``runs/<name>-YYYYmmdd-HHMMSS``, with a suffix if that folder exists."""
+    stamp = (when or now_utc()).strftime("%Y%m%d-%H%M%S")
+    safe = re.sub(r"[^A-Za-z0-9_.-]+", "-", name).strip("-") or "design"
+    path = base / f"{safe}-{stamp}"
+    n = 1
+    while path.exists():
+        n += 1
+        path = base / f"{safe}-{stamp}-{n}"
+    return path
+
+
+def write_manifest(folder: Path, *, config_sha256: str, config_path: str,
+                   started: datetime, finished: datetime, argv: list[str] | None = None,
+                   extra: dict | None = None) -> dict:
+    doc = {
+        "versions": versions(),
+        "config_path": config_path,
+        "config_sha256": config_sha256,
+        "command": " ".join(argv if argv is not None else sys.argv),
+        "started_utc": started.isoformat(timespec="seconds"),
+        "finished_utc": finished.isoformat(timespec="seconds"),
+        "seconds": round((finished - started).total_seconds(), 3),
+    }
+    doc.update(extra or {})
+    (folder / "manifest.json").write_text(json.dumps(doc, indent=1) + "\n", encoding="utf-8")
+    return doc
