@@ -1,0 +1,27 @@
+"""Shared fixtures: paths, a fake solver for tests that must not need PyNEC."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+CONFIGS = ROOT / "configs"
+
+
+@pytest.fixture
+def root() -> Path:
+    return ROOT
+
+
+def dipole_like_solver(model, frequency_hz):
+    """A smooth stand-in for the engine: a series RLC resonant at 7.1 MHz
+    with a radiation-like resistance rising with frequency.  Used only where a
+    test is about the pipeline around the engine, never about antenna physics."""
+    f = np.asarray(frequency_hz, dtype=float)
+    f0 = 7.1e6
+    r = 60.0 * (f / f0) ** 2
+    x = 900.0 * (f / f0 - f0 / f)
+    return r + 1j * x
