@@ -493,8 +493,9 @@ class ModelSettings(Strict):
     """How the wires are cut into segments."""
 
     segments_per_wavelength: float = Field(
-        20.0, ge=10, le=200, description="Segments per wavelength at the highest frequency "
-        "(20 keeps segments at 0.05 wavelength; at least 10)")
+        20.0, ge=2, le=200, description="Segments per wavelength at the highest frequency "
+        "(20 keeps segments at 0.05 wavelength; below 10 breaks the 0.1-wavelength rule "
+        "and 'necflow check' says so)")
     max_segments: int = Field(2000, ge=10, le=20000,
                               description="Refuse a model needing more segments than this")
 
