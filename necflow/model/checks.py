@@ -1,0 +1,68 @@
+"""Checks of a design's geometry, run before any model is built.
+
+Each problem a user can cause is a :class:`necflow.errors.ConfigError`
+naming the field to change (0-based list indexes).
+"""
+
+from __future__ import annotations
+
+import math
+
+from necflow.config.schema import Design, InvertedV, WireList
+from necflow.errors import ConfigError
+from necflow.model.geometry import geometry
+from necflow.model.plan import plan_wires
+from necflow.model.segments import target_segment_length
+
+
+def check_geometry(design: Design, f_max_hz: float) -> None:
+    """Refuse a design whose wires cannot make a sound model.
+
+    Checks, in order: inverted-V legs that cannot be placed (end height
+    above the apex, legs too short or reaching below ground); a feed
+    position off its wire; any wire point below ground (z < 0) when there is
+    a ground (an end exactly at z = 0 is a ground connection and allowed);
+    a model needing more than ``design.model.max_segments`` segments.  The
+    segment count is plain arithmetic on the wire end points, so an
+    oversized model is refused before any matrix exists.
+
+    Parameters
+    ----------
+    design : Design
+        A validated design.
+    f_max_hz : float
+        Highest frequency to be solved [Hz].
+
+    Raises
+    ------
+    ConfigError
+        With ``field`` set to the dotted path of the offending value.
+    """
+    if not (math.isfinite(f_max_hz) and f_max_hz > 0):
+        raise ConfigError(f"highest frequency must be a positive number, got {f_max_hz!r} Hz",
+                          field="bands")
+    grounded = design.ground.model != "free-space"
+    a = design.antenna
+    spans, feed = geometry(design)  # raises for inverted-V legs and feed positions
+    if grounded and isinstance(a, InvertedV):
+        z_end = spans[0].start[2]
+        if z_end < 0:
+            raise ConfigError(f"legs of {a.leg:g} m at this droop reach {-z_end:.3g} m below "
+                              f"ground from an apex at {a.apex_height:g} m", field="antenna.leg")
+    if grounded and isinstance(a, WireList):
+        for i, w in enumerate(spans):
+            for end in ("start", "end"):
+                z = getattr(w, end)[2]
+                if z < 0:
+                    raise ConfigError(f"wire '{w.name}' goes {-z:.3g} m below ground (z < 0); "
+                                      "an end at z = 0 connects to the ground",
+                                      field=f"antenna.wires[{i}].{end}")
+    target = target_segment_length(design, f_max_hz)
+    planned, _ = plan_wires(spans, feed, target)
+    count = sum(w.segments for w in planned)
+    limit = design.model.max_segments
+    if count > limit:
+        raise ConfigError(f"the model needs {count} segments at {f_max_hz / 1e6:g} MHz "
+                          f"({design.model.segments_per_wavelength:g} per wavelength), more than "
+                          f"the limit of {limit}; raise the limit or lower "
+                          "model.segments_per_wavelength", field="model.max_segments")

@@ -1,0 +1,112 @@
+"""A plain-text summary of a built model, for ``necflow check``."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from scipy.constants import speed_of_light
+
+from necflow.config.schema import Design
+from necflow.model.rules import REFLECTION_MIN_HEIGHT_WL, Finding, check_rules
+from necflow.model.types import WireModel
+
+
+@dataclass(frozen=True)
+class WireRow:
+    """Summary of one wire.
+
+    Attributes
+    ----------
+    name : str
+    segments : int
+    segment_wavelengths : float
+        Segment length in wavelengths at the highest frequency [1].
+    length_to_radius : float
+        Segment length divided by wire radius [1].
+    """
+
+    name: str
+    segments: int
+    segment_wavelengths: float
+    length_to_radius: float
+
+
+@dataclass(frozen=True)
+class ModelSummary:
+    """What ``necflow check`` shows about a model.
+
+    Attributes
+    ----------
+    wires : tuple of WireRow
+    total_segments : int
+    lowest_height_wavelengths : float
+        Lowest wire point above ground in wavelengths at the lowest
+        frequency [1] (the z coordinate; meaningless in free space).
+    ground_kind : str
+    ground_verdict : str
+        Whether the ground model suits the antenna, in words.
+    findings : tuple of Finding
+        The modelling-rule findings.
+    """
+
+    wires: tuple[WireRow, ...]
+    total_segments: int
+    lowest_height_wavelengths: float
+    ground_kind: str
+    ground_verdict: str
+    findings: tuple[Finding, ...]
+
+    def format(self) -> list[str]:
+        """Plain text lines, one per fact."""
+        lines = [f"{'wire':<24} {'segments':>8} {'seg/wavelength':>15} {'seg/radius':>11}"]
+        for r in self.wires:
+            lines.append(f"{r.name:<24} {r.segments:>8d} {r.segment_wavelengths:>15.4f} "
+                         f"{r.length_to_radius:>11.1f}")
+        lines.append(f"total segments: {self.total_segments}")
+        if self.ground_kind != "free-space":
+            lines.append("lowest wire point: "
+                         f"{self.lowest_height_wavelengths:.3f} wavelength above ground "
+                         "at the lowest frequency")
+        lines.append(f"ground model: {self.ground_verdict}")
+        for f in self.findings:
+            where = f" [{f.wire}]" if f.wire else ""
+            lines.append(f"{f.severity}: {f.rule}{where}: {f.message}")
+        return lines
+
+
+def _verdict(kind: str, h_wl: float) -> str:
+    if kind == "free-space":
+        return "free space: no ground; the antenna alone, for comparison with textbook values"
+    if kind == "perfect":
+        return ("perfect ground: a lossless idealisation; real soil lowers gain and adds "
+                "ground loss")
+    if kind == "sommerfeld":
+        return "Sommerfeld-Norton: suits wires at any height, including close to the ground"
+    if h_wl >= REFLECTION_MIN_HEIGHT_WL:
+        return (f"reflection-coefficient approximation: suits this antenna (lowest point "
+                f"{h_wl:.2f} wavelength up, at least about {REFLECTION_MIN_HEIGHT_WL})")
+    return (f"reflection-coefficient approximation: does not suit this antenna (lowest point "
+            f"{h_wl:.2f} wavelength up, below about {REFLECTION_MIN_HEIGHT_WL}); "
+            "use 'sommerfeld'")
+
+
+def summarize(model: WireModel, design: Design, f_min_hz: float,
+              f_max_hz: float) -> ModelSummary:
+    """Summarise a model for the user: segmentation, height, ground fit.
+
+    Parameters
+    ----------
+    model : WireModel
+    design : Design
+    f_min_hz, f_max_hz : float
+        Lowest and highest frequency to be solved [Hz].
+    """
+    lam_min = speed_of_light / f_max_hz
+    lam_max = speed_of_light / f_min_hz
+    rows = tuple(WireRow(w.name, w.segments, w.segment_length / lam_min,
+                         w.segment_length / w.radius) for w in model.wires)
+    z = min(min(float(w.start[2]), float(w.end[2])) for w in model.wires)
+    h_wl = z / lam_max
+    return ModelSummary(rows, model.segment_count, h_wl, model.ground.kind,
+                        _verdict(model.ground.kind, h_wl),
+                        tuple(check_rules(model, design, f_min_hz, f_max_hz)))
