@@ -69,20 +69,20 @@ class BandTable:
     source: str
 
 
-_MHZ = 1e6
+_KHZ = 1e3  # edges are kept in kHz, where every figure is exact in binary
 
 # Allocations common to all three regions (from memory of the ITU Radio
 # Regulations, Article 5; Region 2 figures agree with 47 CFR 97.301).
 _COMMON = {
     # WRC-15 secondary allocation; several administrations allow channels
     # or segments outside it (47 CFR 97.301 lists channels near 5.33-5.41 MHz).
-    "60m": (5.3515, 5.3665),
-    "30m": (10.100, 10.150),
-    "20m": (14.000, 14.350),
-    "17m": (18.068, 18.168),
-    "15m": (21.000, 21.450),
-    "12m": (24.890, 24.990),
-    "10m": (28.000, 29.700),
+    "60m": (5351.5, 5366.5),
+    "30m": (10100, 10150),
+    "20m": (14000, 14350),
+    "17m": (18068, 18168),
+    "15m": (21000, 21450),
+    "12m": (24890, 24990),
+    "10m": (28000, 29700),
 }
 
 _ART5 = "from memory of the ITU Radio Regulations, Article 5"
@@ -92,20 +92,20 @@ _NATIONAL = "; national rules differ, and the licence in force wins"
 def _table(region: int, low_three: dict[str, tuple[float, float]], source: str) -> BandTable:
     order = ("160m", "80m", "60m", "40m", "30m", "20m", "17m", "15m", "12m", "10m")
     merged = {**low_three, **_COMMON}
-    edges = {name: (merged[name][0] * _MHZ, merged[name][1] * _MHZ) for name in order}
+    edges = {name: (merged[name][0] * _KHZ, merged[name][1] * _KHZ) for name in order}
     return BandTable(region=region, edges=edges, source=source)
 
 
 #: ITU region -> band table.
 TABLES: dict[int, BandTable] = {
-    1: _table(1, {"160m": (1.810, 1.850), "80m": (3.500, 3.800), "40m": (7.000, 7.200)},
+    1: _table(1, {"160m": (1810, 1850), "80m": (3500, 3800), "40m": (7000, 7200)},
               _ART5 + " (Region 1; many administrations extend 160 m to 2.000 MHz); "
               "60 m is the WRC-15 allocation 5.3515-5.3665 MHz" + _NATIONAL),
-    2: _table(2, {"160m": (1.800, 2.000), "80m": (3.500, 4.000), "40m": (7.000, 7.300)},
+    2: _table(2, {"160m": (1800, 2000), "80m": (3500, 4000), "40m": (7000, 7300)},
               "47 CFR 97.301 (an administration of Region 2); 60 m is the WRC-15 allocation "
               "5.3515-5.3665 MHz, " + _ART5 + ", in place of the channels "
               "near 5.33-5.41 MHz that 47 CFR 97.301 lists" + _NATIONAL),
-    3: _table(3, {"160m": (1.800, 2.000), "80m": (3.500, 3.900), "40m": (7.000, 7.200)},
+    3: _table(3, {"160m": (1800, 2000), "80m": (3500, 3900), "40m": (7000, 7200)},
               _ART5 + " (Region 3); 60 m is the WRC-15 allocation 5.3515-5.3665 MHz"
               + _NATIONAL),
 }

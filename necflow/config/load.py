@@ -388,8 +388,7 @@ def _message(err: dict, data: Any) -> tuple[str, tuple]:
         for k in keys:
             close = difflib.get_close_matches(k, ["line", "series", "shunt", "transformer"], n=1)
             if close:
-                return (f"unknown element kind: did you mean '{close[0]}' instead of "
-                        f"'{k}'? {err['msg']}", path)
+                return f"{err['msg']}; did you mean '{close[0]}' instead of '{k}'?", path
         return f"{err['msg']}; got keys {', '.join(map(str, keys)) or '(none)'}", path
     if etype == "literal_error":
         values = _literal_values(owner, name)
