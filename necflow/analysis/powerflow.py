@@ -4,7 +4,10 @@ The radio is a source of available power ``P`` with a real source resistance
 ``z_ref``: open-circuit RMS voltage ``E = sqrt(4 P z_ref)``.  The current
 into the chain follows from the impedance the radio sees; stepping through
 each element with its inverse ABCD gives voltage and current at every node
-(node 0 the radio terminals, node N the antenna feedpoint).  With
+(node 0 the radio terminals, node N the antenna feedpoint); the sweep runs
+from the feedpoint with the forward ABCD and is scaled to the source, which
+gives the same nodes as stepping from the radio with inverse ABCDs but keeps
+full precision behind strongly mismatched elements.  With
 ``P_k = Re(V_k I_k*)``:
 
 * mismatch loss at the radio ``P - P_0`` (equals ``P |G|^2``),
@@ -175,17 +178,25 @@ def analyse(chain: FeedChain, f, z_feedpoint, z_ref: float = 50.0,
     z_radio = twoport.input_impedance(total, zfp)
     gamma = metrics.reflection_coefficient(z_radio, z_ref)
 
+    # Sweep from the load toward the radio with the forward ABCD (V_N = Z_fp,
+    # I_N = 1, or V_N = 1, I_N = 0 for an open), then scale every node by the
+    # one complex factor the source fixes: E = V_0 + z_ref I_0.  This is the
+    # inverse-ABCD walk from the radio done the well-conditioned way: the
+    # feedpoint relation V_N = Z_fp I_N holds exactly, even behind parts that
+    # shunt nearly all the current away from the antenna.
     e = math.sqrt(4.0 * power_w * z_ref)
-    i0 = e / (z_ref + z_radio)
-    v0 = i0 * z_radio
     n = len(mats)
     node_v = np.empty((nf, n + 1), dtype=complex)
     node_i = np.empty((nf, n + 1), dtype=complex)
-    node_v[:, 0], node_i[:, 0] = v0, i0
-    radio_first = list(reversed(mats))
-    for k, m in enumerate(radio_first):
-        node_v[:, k + 1], node_i[:, k + 1] = twoport.step_forward(m, node_v[:, k],
-                                                                  node_i[:, k])
+    is_open = np.isinf(zfp)
+    node_v[:, n] = np.where(is_open, 1.0, zfp)
+    node_i[:, n] = np.where(is_open, 0.0, 1.0)
+    for k in range(n - 1, -1, -1):      # node k is the radio side of mats[n-1-k]
+        node_v[:, k], node_i[:, k] = twoport.apply(mats[n - 1 - k], node_v[:, k + 1],
+                                                   node_i[:, k + 1])
+    scale = e / (node_v[:, 0] + z_ref * node_i[:, 0])
+    node_v *= scale[:, None]
+    node_i *= scale[:, None]
     node_p = (node_v * node_i.conj()).real
     p_avail = np.full(nf, float(power_w))
     p_mismatch = p_avail - node_p[:, 0]
