@@ -20,6 +20,7 @@ from pydantic import (BaseModel, BeforeValidator, ConfigDict, Discriminator,
                       Field, Tag, field_validator, model_validator)
 
 from necflow import units
+from necflow.optimize.spec import CostSpec, SearchParam
 
 # ----------------------------------------------------------------------------
 # Field helpers
@@ -516,6 +517,12 @@ class Design(Strict):
     goal: Goal = Field(default_factory=Goal, description="What counts as usable")
     cautions: Cautions = Field(default_factory=Cautions, description="Warning thresholds")
     model: ModelSettings = Field(default_factory=ModelSettings, description="Segmentation")
+    search: dict[str, SearchParam] = Field(
+        default_factory=dict, description="Study search space: field path (antenna.span, "
+        "feed.<id>.length, feed.<id>.value, ground.conductivity...) -> range or choices; "
+        "used by 'necflow optimize', ignored by 'evaluate'")
+    cost: CostSpec = Field(default_factory=CostSpec, description="How 'necflow optimize' "
+                           "scores a design")
 
     @model_validator(mode="after")
     def _unique_ids(self) -> "Design":

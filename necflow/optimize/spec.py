@@ -1,0 +1,87 @@
+"""Design-file keys of a study: the ``search`` space and the ``cost``.
+
+These models hold the user's text as written (bounds with units such as
+``"22 m"``); the unit a bound needs depends on the field it addresses, so
+:mod:`necflow.optimize.space` converts them to SI against the design.
+This module imports nothing from the rest of necflow, so the schema can
+import it without a cycle.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Literal
+
+from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
+
+Scalar = str | float | int
+
+
+class _Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", validate_assignment=True,
+                              populate_by_name=True)
+
+
+class SearchParam(_Strict):
+    """One searched field: a range (linear or log, optionally stepped) or a
+    list of allowed values."""
+
+    range: tuple[Scalar, Scalar] | None = Field(
+        None, description="Lowest and highest value, with the field's unit "
+        "(e.g. ['22 m', '30 m'])", json_schema_extra={"unit": "unit of the field"})
+    scale: Literal["linear", "log"] = Field(
+        "linear", description="Sample the range evenly (linear) or evenly in its logarithm (log)")
+    step: Scalar | None = Field(
+        None, description="Grid of the values tried, with the field's unit (e.g. '1 cm'); "
+        "linear ranges only", json_schema_extra={"unit": "unit of the field"})
+    choices: list[Scalar] | None = Field(
+        None, min_length=1, description="Allowed values instead of a range (e.g. standard "
+        "capacitor values, or catalog line types for a line's 'line' key)")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _shorthand(cls, data: Any) -> Any:
+        if isinstance(data, (list, tuple)):
+            if len(data) != 2:
+                raise ValueError("a range is two values [low, high], e.g. ['22 m', '30 m']; "
+                                 "for a list of allowed values write {choices: [...]}")
+            return {"range": list(data)}
+        return data
+
+    @model_validator(mode="after")
+    def _one_kind(self) -> "SearchParam":
+        if (self.range is None) == (self.choices is None):
+            raise ValueError("give either 'range' or 'choices'")
+        if self.choices is not None and (self.step is not None or self.scale != "linear"):
+            raise ValueError("'step' and 'scale' apply to a range, not to 'choices'")
+        if self.step is not None and self.scale == "log":
+            raise ValueError("'step' works on a linear range only; drop 'step' or "
+                             "'scale: log'")
+        return self
+
+
+COST_OBJECTIVES = ("cost", "worst_swr", "loss_db", "span")
+
+
+class CostSpec(_Strict):
+    """How a design is scored: see the README section "Cost"."""
+
+    combine: Literal["mean", "worst"] = Field(
+        "mean", description="Combine the bands by their weighted mean cost (mean) or take "
+        "the costliest band (worst)")
+    swr_weight: float = Field(1.0, ge=0, description="Weight of the SWR term (per SWR unit "
+                              "above the limit)")
+    loss_weight: float = Field(1.0, ge=0, description="Weight of the loss term (per dB of "
+                               "total system loss)")
+    swr_softness: float = Field(0.1, gt=0, le=10, description="Width of the smooth knee of "
+                                "the SWR penalty at the limit, in SWR units")
+    objectives: list[Literal["cost", "worst_swr", "loss_db", "span"]] = Field(
+        default_factory=lambda: ["cost"], min_length=1, max_length=3,
+        description="What the study minimises: [cost] alone, or two or three of cost, "
+        "worst_swr, loss_db, span for a Pareto front")
+
+    @field_validator("objectives")
+    @classmethod
+    def _unique(cls, v: list[str]) -> list[str]:
+        if len(set(v)) != len(v):
+            raise ValueError("each objective once")
+        return v

@@ -1,0 +1,370 @@
+"""The study runner: optuna ask/tell loops in one or several processes.
+
+Overnight safety:
+
+* every trial ends COMPLETE or FAIL with its reason in the user attribute
+  ``necflow.fail_reason`` (an invalid variant, a failed solve, a
+  non-finite cost, an interruption); the loop goes on after a failure;
+* ``trials`` is the study's total: trials that reached a verdict (COMPLETE,
+  or FAIL of the design itself) count, interrupted ones do not; a trial
+  started by one worker after another worker filled the budget is closed as
+  PRUNED with ``necflow.discarded`` and not evaluated;
+* SIGINT/SIGTERM during a trial fail that trial ("interrupted") and stop
+  the worker; outside a trial they stop it before the next one;
+* a trial left RUNNING by a killed process is failed on the next start
+  (journal storage: its process is gone; RDB storage: its heartbeat stopped).
+"""
+
+from __future__ import annotations
+
+import math
+import multiprocessing
+import os
+import re
+import signal
+import socket
+import threading
+import time
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Callable
+
+from necflow.errors import ConfigError, ModelError, NecflowError
+
+FAIL_REASON = "necflow.fail_reason"
+COUNTED = "necflow.counted"
+DISCARDED = "necflow.discarded"
+
+
+@dataclass
+class StudyOptions:
+    """How to run a study (see ``necflow optimize --help``)."""
+
+    out: Path
+    study_name: str
+    trials: int | None = None
+    timeout_s: float | None = None
+    workers: int = 1
+    storage: str | None = None
+    seed: int | None = None
+    log: Callable[[str], None] | None = field(default=None, repr=False)
+
+
+def parse_duration(text: str) -> float:
+    """Seconds in ``8h``, ``90m``, ``45s``, ``1h30m`` or ``2d``.
+
+    Raises
+    ------
+    ConfigError
+        If the text is not such a duration.
+    """
+    t = str(text).strip().lower().replace(" ", "")
+    parts = re.findall(r"(\d+(?:\.\d+)?)([dhms])", t)
+    if not t or not parts or "".join(a + b for a, b in parts) != t:
+        raise ConfigError(f"'{text}' is not a duration; expected e.g. 8h, 90m, 1h30m, 45s",
+                          field="--timeout")
+    scale = {"d": 86400.0, "h": 3600.0, "m": 60.0, "s": 1.0}
+    seconds = sum(float(a) * scale[b] for a, b in parts)
+    if seconds <= 0:
+        raise ConfigError("the timeout must be positive", field="--timeout")
+    return seconds
+
+
+class TrialFailure(NecflowError):
+    """A trial's design is invalid or could not be evaluated."""
+
+
+class Interrupted(KeyboardInterrupt):
+    """SIGINT or SIGTERM arrived during a trial."""
+
+
+# ----------------------------------------------------------------------------
+# Study bookkeeping
+
+
+def _states():
+    from optuna.trial import TrialState
+    return TrialState
+
+
+def counted_trials(study) -> list:
+    """Trials that reached a verdict: COMPLETE, or FAIL of the design itself."""
+    S = _states()
+    return [t for t in study.get_trials(deepcopy=False, states=(S.COMPLETE, S.FAIL))
+            if t.state == S.COMPLETE or t.user_attrs.get(COUNTED)]
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
+
+
+def fail_orphans(study) -> int:
+    """Fail trials left RUNNING by a process that is gone; returns how many."""
+    import optuna
+
+    S = _states()
+    storage = study._storage
+    if hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval():
+        return len(optuna.storages.fail_stale_trials(study) or [])
+    host, n = socket.gethostname(), 0
+    now = time.time()
+    for t in study.get_trials(deepcopy=False, states=(S.RUNNING,)):
+        pid, thost = t.user_attrs.get("necflow.pid"), t.user_attrs.get("necflow.host")
+        started = t.datetime_start.timestamp() if t.datetime_start else now
+        dead = (pid is not None and thost == host and not _alive(int(pid))) or \
+            (pid is None and now - started > 60)
+        if dead:
+            try:
+                storage.set_trial_user_attr(t._trial_id, FAIL_REASON,
+                                            "interrupted: its worker stopped without finishing")
+                storage.set_trial_state_values(t._trial_id, S.FAIL)
+                n += 1
+            except Exception:  # another worker closed it first
+                pass
+    return n
+
+
+def _running_before(study, number: int) -> int:
+    S = _states()
+    return sum(1 for t in study.get_trials(deepcopy=False, states=(S.RUNNING,))
+               if t.number < number)
+
+
+def open_study(design, space, options: StudyOptions, *, create: bool = True):
+    """Create or load the study and check it matches this design and space."""
+    import optuna
+
+    from necflow.optimize.storage import guard_resume, open_storage
+
+    storage = open_storage(options.storage, options.out)
+    n_obj = len(design.cost.objectives)
+    sampler = optuna.samplers.TPESampler(seed=options.seed, constant_liar=True,
+                                         multivariate=True)
+    try:
+        study = optuna.create_study(storage=storage, study_name=options.study_name,
+                                    directions=["minimize"] * n_obj, sampler=sampler,
+                                    load_if_exists=True)
+    except ValueError as exc:  # e.g. directions differ from the stored study
+        raise ConfigError(f"study '{options.study_name}' cannot be resumed: {exc}",
+                          field="cost.objectives") from None
+    guard_resume(study, design, space)
+    return study
+
+
+def enqueue_start(study, design, space) -> bool:
+    """Queue the starting design as the first trial of a new study."""
+    from necflow.optimize.space import locate
+
+    if study.get_trials(deepcopy=False):
+        return False
+    values = {}
+    for p in space.params:
+        owner, name = locate(design, p.path)
+        v = getattr(owner, name)
+        if p.choices is not None:
+            if v not in p.choices:
+                return False
+        else:
+            if not (p.low <= v <= p.high):
+                return False
+            if p.step:
+                v = min(p.high, p.low + round((v - p.low) / p.step) * p.step)
+        values[p.path] = v
+    study.enqueue_trial(values, user_attrs={"necflow.start": True})
+    return True
+
+
+# ----------------------------------------------------------------------------
+# One trial
+
+
+def run_trial(trial, design, space, cache) -> tuple[float, ...]:
+    """Suggest, build, check, evaluate and score one variant.
+
+    Raises
+    ------
+    TrialFailure
+        With the reason, when the variant is invalid or cannot be evaluated.
+    """
+    from necflow.optimize.evaluator import score_design
+    from necflow.optimize.space import apply, check_variant
+
+    values = space.suggest(trial)
+    try:
+        variant = apply(design, values)
+        if space.geometry_paths:
+            check_variant(variant)
+        _, sc = score_design(variant, cache)
+    except Exception as exc:  # any failure of one variant must not end the study
+        raise TrialFailure(f"{type(exc).__name__}: {exc}") from None
+    if not all(math.isfinite(v) for v in sc.values):
+        raise TrialFailure(f"the cost is not finite: {sc.values}")
+    for band, terms in sc.bands.items():
+        trial.set_user_attr(f"band:{band}", terms)
+    trial.set_user_attr("necflow.terms", {"cost": sc.cost, "worst_swr": sc.worst_swr,
+                                          "loss_db": sc.loss_db})
+    return sc.values
+
+
+# ----------------------------------------------------------------------------
+# The worker loop
+
+
+class _Signals:
+    """SIGINT/SIGTERM: raise inside a trial, else ask the loop to stop."""
+
+    def __init__(self):
+        self.stop: str | None = None
+        self.in_trial = False
+        self._old: dict = {}
+
+    def __enter__(self):
+        if threading.current_thread() is threading.main_thread():
+            for s in (signal.SIGINT, signal.SIGTERM):
+                self._old[s] = signal.signal(s, self._handle)
+        return self
+
+    def __exit__(self, *exc):
+        for s, h in self._old.items():
+            signal.signal(s, h)
+
+    def _handle(self, signum, frame):
+        self.stop = signal.Signals(signum).name
+        if self.in_trial:
+            self.in_trial = False
+            raise Interrupted(self.stop)
+
+
+def _heartbeat(storage, trial_id: int, stop: threading.Event) -> None:
+    interval = storage.get_heartbeat_interval()
+    while not stop.wait(interval):
+        try:
+            storage.record_heartbeat(trial_id)
+        except Exception:
+            pass
+
+
+def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None,
+                on_trial: Callable | None = None, deadline: float | None = None) -> str:
+    """Run trials until the budget, the deadline or a signal; returns why it stopped."""
+    from optuna.trial import TrialState
+
+    from necflow.optimize.evaluator import ResponseCache
+
+    study = study or open_study(design, space, options)
+    cache = ResponseCache(solver)
+    storage = study._storage
+    beats = hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval()
+    host, pid = socket.gethostname(), os.getpid()
+    fail_orphans(study)
+    with _Signals() as sig:
+        while True:
+            if sig.stop:
+                return f"stopped by {sig.stop}"
+            if deadline is not None and time.time() >= deadline:
+                return "timeout reached"
+            if options.trials is not None and len(counted_trials(study)) >= options.trials:
+                return "trial budget reached"
+            trial = study.ask()
+            storage.set_trial_user_attr(trial._trial_id, "necflow.host", host)
+            storage.set_trial_user_attr(trial._trial_id, "necflow.pid", pid)
+            if options.trials is not None and \
+                    len(counted_trials(study)) + _running_before(study, trial.number) \
+                    >= options.trials:
+                trial.set_user_attr(DISCARDED, "the budget was filled by other workers")
+                study.tell(trial, state=TrialState.PRUNED)
+                return "trial budget reached"
+            stop_beat = threading.Event()
+            if beats:
+                threading.Thread(target=_heartbeat, args=(storage, trial._trial_id, stop_beat),
+                                 daemon=True).start()
+            state, values, reason = TrialState.FAIL, None, None
+            try:
+                sig.in_trial = True
+                values = run_trial(trial, design, space, cache)
+                sig.in_trial = False
+                state = TrialState.COMPLETE
+            except TrialFailure as exc:
+                sig.in_trial = False
+                reason = str(exc)
+                trial.set_user_attr(COUNTED, True)
+            except Interrupted as exc:
+                reason = f"interrupted by {exc}"
+            finally:
+                sig.in_trial = False
+                stop_beat.set()
+                if reason:
+                    trial.set_user_attr(FAIL_REASON, reason)
+                study.tell(trial, values if state == TrialState.COMPLETE else None,
+                           state=state)
+            if on_trial is not None:
+                on_trial(study, trial.number, state, reason)
+
+
+def _child(design, space, options: StudyOptions, index: int, solver) -> None:
+    """Entry of a spawned worker process."""
+    import optuna
+
+    optuna.logging.set_verbosity(optuna.logging.WARNING)
+    seed = None if options.seed is None else options.seed + index
+    opts = replace(options, seed=seed, log=None)
+    deadline = None if options.timeout_s is None else time.time() + options.timeout_s
+    try:
+        worker_loop(design, space, opts, solver=solver, deadline=deadline)
+    except NecflowError:
+        raise SystemExit(2)
+
+
+def run_study(design, space, options: StudyOptions, *, solver=None,
+              on_trial: Callable | None = None) -> tuple[object, str]:
+    """Run a study with ``options.workers`` processes; returns (study, why it stopped).
+
+    This process is worker 0; workers 1..N-1 are spawned processes, each with
+    its own storage connection.  SIGTERM to this process is passed on to them.
+    """
+    study = open_study(design, space, options)
+    enqueue_start(study, design, space)
+    deadline = None if options.timeout_s is None else time.time() + options.timeout_s
+    ctx = multiprocessing.get_context("spawn")
+    children = [ctx.Process(target=_child, args=(design, space, options, i, solver),
+                            daemon=False) for i in range(1, max(1, options.workers))]
+    for c in children:
+        c.start()
+    why = "stopped"
+    try:
+        why = worker_loop(design, space, options, study=study, solver=solver,
+                          on_trial=on_trial, deadline=deadline)
+    finally:
+        _join(children, forward=why.startswith("stopped"))
+    return study, why
+
+
+def _join(children, forward: bool) -> None:
+    """Wait for the workers, passing a stop request on to them."""
+    def stop_children(signum=signal.SIGTERM, frame=None):
+        for c in children:
+            if c.is_alive():
+                try:
+                    os.kill(c.pid, signal.SIGTERM)
+                except ProcessLookupError:
+                    pass
+
+    if not children:
+        return
+    main = threading.current_thread() is threading.main_thread()
+    old = {s: signal.signal(s, stop_children) for s in (signal.SIGINT, signal.SIGTERM)} \
+        if main else {}
+    try:
+        if forward:
+            stop_children()
+        for c in children:
+            c.join()
+    finally:
+        for s, h in old.items():
+            signal.signal(s, h)
