@@ -57,7 +57,8 @@ class ModelSummary:
     findings: tuple[Finding, ...]
 
     def format(self) -> list[str]:
-        """Plain text lines, one per fact."""
+        """Plain text lines, one per fact (the findings are left to the
+        caller, which prints them with their severity)."""
         lines = [f"{'wire':<24} {'segments':>8} {'seg/wavelength':>15} {'seg/radius':>11}"]
         for r in self.wires:
             lines.append(f"{r.name:<24} {r.segments:>8d} {r.segment_wavelengths:>15.4f} "
@@ -68,9 +69,6 @@ class ModelSummary:
                          f"{self.lowest_height_wavelengths:.3f} wavelength above ground "
                          "at the lowest frequency")
         lines.append(f"ground model: {self.ground_verdict}")
-        for f in self.findings:
-            where = f" [{f.wire}]" if f.wire else ""
-            lines.append(f"{f.severity}: {f.rule}{where}: {f.message}")
         return lines
 
 

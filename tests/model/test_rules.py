@@ -125,10 +125,12 @@ def test_summary_rows_and_text(make_design):
     assert "perfect ground" in text[-1]
 
 
-def test_findings_appear_in_the_summary_text(make_design):
+def test_summary_carries_the_findings(make_design):
     d = make_design(DOUBLET, segments_per_wavelength=10)
-    text = summarize(build_model(d, F_MAX), d, F_MIN, F_MAX).format()
-    assert any(R.RULE_CRITICAL_SEGMENT in line for line in text)
+    m = build_model(d, F_MAX)
+    s = summarize(m, d, F_MIN, F_MAX)
+    assert list(s.findings) == check_rules(m, d, F_MIN, F_MAX)
+    assert R.RULE_CRITICAL_SEGMENT in _rules(s.findings)
 
 
 def test_finding_is_immutable():
