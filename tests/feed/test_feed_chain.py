@@ -81,7 +81,7 @@ def test_part_impedances_with_default_q():
 
 
 def test_chain_order_antenna_side_first():
-    # Closed-form composed network (cf. scikit-rf tests/test_circuit.py style):
+    # Closed-form composed network (circuit algebra, Ohm's law):
     # a 100-ohm resistor across the antenna, then 10 ohm in series toward the
     # radio: Zin = 10 + (100 || ZL).  Reversing the order gives a different
     # value, so the check pins the cascade order.  Rounding only.

@@ -150,3 +150,13 @@ def test_voltage_along_reproduces_port_voltage_at_the_radio_end():
     v1, _ = twoport.apply(tl.line_abcd(gamma, zc, 31.0), v2, i2)
     np.testing.assert_allclose(tl.voltage_along(gamma, zc, v2, i2, [31.0])[:, 0], v1,
                                rtol=1e-12)
+
+
+def test_open_circuited_line_reads_minus_j_z0_cot_beta_l():
+    # Pozar, Microwave Engineering 4th ed., sec. 2.3 (open-circuited lossless
+    # line): Zin = -j Z0 cot(beta l).  An infinite load takes the A/C branch;
+    # rounding only.
+    z0, vf, length = 300.0, 0.8, 4.1
+    gamma, zc = tl.propagation_real_z0(F, z0, vf, 0.0)
+    zin = twoport.input_impedance(tl.line_abcd(gamma, zc, length), np.inf)
+    np.testing.assert_allclose(zin, -1j * z0 / np.tan(gamma.imag * length), rtol=1e-9)
