@@ -97,11 +97,12 @@ def test_500_pf_series_capacitor_bench_figures(f_mhz, bench_db):
     # 3.6 / 7.15 / 14.2 / 28.5 MHz, nearly all of it mismatch.  The model
     # (default Q 1000) lands at or slightly below the bench: bench fixtures
     # add lead and connector loss and meters read to about 0.1 dB, so the
-    # model may sit up to 0.15 dB under the bench and at most 0.02 dB over it.
+    # model may sit up to 0.15 dB under the bench; above it only by the
+    # rounding of the quoted figure ("about 2.5"), taken as 0.05 dB.
     ch = build_chain([PartElement(id="cap", series="capacitor", value="500 pF")])
     r = analyse(ch, [f_mhz * 1e6], 50.0)
     total = float(r.loss_db["total"][0])
-    assert bench_db - 0.15 <= total <= bench_db + 0.02
+    assert bench_db - 0.15 <= total <= bench_db + 0.05
     assert float(r.loss_db["mismatch"][0]) > 0.9 * total
 
 
