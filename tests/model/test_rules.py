@@ -43,6 +43,16 @@ def test_segments_over_a_tenth_wavelength_are_an_error(make_design):
     assert R.RULE_MAX_SEGMENT in _rules(found, "error")
 
 
+def test_builder_follows_a_coarse_setting_and_the_rule_names_it(make_design):
+    # The schema allows fewer than 10 segments per wavelength; 4 gives 0.25-wavelength
+    # segments, over the 0.1-wavelength limit, on every wire.
+    d = make_design(DOUBLET, segments_per_wavelength=4)
+    m = build_model(d, F_MAX)
+    found = [f for f in check_rules(m, d, F_MIN, F_MAX) if f.rule == R.RULE_MAX_SEGMENT]
+    assert {f.wire for f in found} == {w.name for w in m.wires}
+    assert all(f.severity == "error" for f in found)
+
+
 def test_fat_wire_named(make_design):
     # 1.04 m segments on a 0.2 m radius: ratio 5.2, legal only with the extended kernel.
     d = make_design({**DOUBLET, "wire": {"diameter": "400 mm"}})
