@@ -124,7 +124,7 @@ def evaluate(design: Design, *, solver: Solver | None = None) -> Evaluation:
     f_min, f_max = float(f.min()), float(f.max())
     model = build_model(design, f_max)
     findings = check_rules(model, design, f_min, f_max)
-    chain = build_chain(design.feed)
+    chain = build_chain(design.feed, r_radio=design.radio.impedance)
     z_feed = solve_antenna(model, f, solver)
     system = analyse(chain, f, z_feed, z_ref=design.radio.impedance,
                      power_w=design.radio.power)
