@@ -194,16 +194,21 @@ def load_design_text(text: str, file: str = "<string>") -> Design:
 
 
 def _path_text(path: tuple) -> str:
+    """``('feed', 2, 'value')`` -> ``feed[2].value``; a key with a dot in
+    brackets: ``('search', 'antenna.span')`` -> ``search[antenna.span]``."""
     out = ""
     for p in path:
-        out += f"[{p}]" if isinstance(p, int) else (f".{p}" if out else str(p))
+        if isinstance(p, int) or "." in str(p):
+            out += f"[{p}]"
+        else:
+            out += f".{p}" if out else str(p)
     return out
 
 
 def _parse_path(text: str) -> tuple:
     out: list = []
-    for name, index in re.findall(r"([^.\[\]]+)|\[(\d+)\]", text):
-        out.append(int(index) if index else name)
+    for name, index in re.findall(r"([^.\[\]]+)|\[([^\]]+)\]", text):
+        out.append(name if name else int(index) if index.isdigit() else index)
     return tuple(out)
 
 
@@ -310,6 +315,9 @@ def _walk(loc: tuple) -> tuple[tuple, Any, Any]:
             field = tp.model_fields.get(item)
             tp = field.annotation if field else None
             disc = field.discriminator if field else None
+        elif get_origin(tp) is dict:
+            path.append(item)
+            tp = get_args(tp)[1]
         elif isinstance(item, int):
             path.append(item)
             tp = get_args(tp)[0] if get_origin(tp) is list else None

@@ -69,9 +69,13 @@ def _default(field: FieldInfo, extra: dict) -> str:
         return "required"
     if "default_text" in extra:
         return str(extra["default_text"])
-    if field.default_factory is not None:
-        return "see its keys"
     value = field.default
+    if field.default_factory is not None:
+        value = field.default_factory()  # type: ignore[call-arg]
+        if isinstance(value, BaseModel):
+            return "see its keys"
+        if isinstance(value, (list, dict)):
+            return "[" + ", ".join(map(str, value)) + "]" if value else "empty"
     if value is None or value is PydanticUndefined:
         return "not set"
     if isinstance(value, str):
@@ -91,12 +95,12 @@ def _rows(model: type, prefix: str, qualifier: str, skip: str | None = None) -> 
         desc = field.description or ""
         tp, disc = _unwrap(field.annotation)
         disc = field.discriminator or disc
-        item = None
-        if get_origin(tp) is list:
-            item, item_disc = _unwrap(get_args(tp)[0])
+        item, sub = None, path + "."
+        if get_origin(tp) in (list, dict):
+            item, item_disc = _unwrap(get_args(tp)[-1])
             disc = disc or item_disc
+            sub = path + ("[]." if get_origin(tp) is list else ".<key>.")
         target = item if item is not None else tp
-        sub = path + ("[]." if item is not None else ".")
         if get_origin(target) in (Union, UnionType) and disc is not None:
             members = _members(target, disc)
             kinds = "; ".join(f"{t}: {_summary(m).lower()}" for t, m in members)
@@ -126,13 +130,16 @@ def _merge(rows: list[Row]) -> list[tuple[str, str, str, str]]:
 
 
 def _cell(text: str) -> str:
-    return " ".join(str(text).split()).replace("|", "\\|")
+    """Table cell text: one line, pipes escaped, no raw HTML."""
+    text = " ".join(str(text).split()).replace("|", "\\|")
+    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
 
 
 def markdown() -> str:
     """The key reference as a Markdown table (no trailing newline)."""
     lines = ["Every key of a design file. A qualifier in brackets names the antenna shape "
-             "or feed element kind the key belongs to; `[]` marks the entries of a list.",
+             "or feed element kind the key belongs to; `[]` marks the entries of a list and "
+             "`<key>` a key you choose.",
              "",
              "| Key | Unit | Default | Description |",
              "|---|---|---|---|"]

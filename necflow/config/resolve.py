@@ -82,6 +82,8 @@ def _plain(value: Any) -> Any:
         return {name: _field_value(value, name, v)
                 for name in type(value).model_fields
                 if (v := getattr(value, name)) is not None}
+    if isinstance(value, dict):
+        return {k: _plain(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
         return [_plain(v) for v in value]
     return value

@@ -216,6 +216,13 @@ BAD_CASES: list[BadCase] = [
             "give 'q' or 'esr', not both"),
     BadCase("ratio-malformed", _edit('ratio: "1:1"', 'ratio: "4-1"'), 13, "feed[2].ratio",
             "write it as '4:1'"),
+    # --- study keys
+    BadCase("search-range-one-value", BASE + "search:\n  antenna.span: [22 m]\n", 17,
+            "search[antenna.span]", "a range is two values [low, high]"),
+    BadCase("search-key-typo", BASE + "search:\n  antenna.span: {range: [22 m, 30 m], "
+            "scal: log}\n", 17, "search[antenna.span].scal", "did you mean 'scale'?"),
+    BadCase("cost-combine-unknown", BASE + "cost:\n  combine: best\n", 17, "cost.combine",
+            "expected one of mean, worst"),
     BadCase("transformer-kind-typo", _edit("transformer: balun", "transformer: balum"), 13,
             "feed[2].transformer", "did you mean 'balun'?"),
 ]
