@@ -103,7 +103,6 @@ def parse_yaml(text: str, file: str | None = None) -> tuple[Any, Lines]:
     try:
         return loader.load_marked()
     except ConfigError as exc:
-        exc.file = file
         raise ConfigError(exc.message, file=file, line=exc.line, field=exc.field) from None
     except yaml.YAMLError as exc:
         msg, line = _yaml_problem(exc)
@@ -265,18 +264,20 @@ def _strip(tp: Any) -> tuple[Any, Any]:
     return tp, disc
 
 
-def _is_model(tp: Any) -> bool:
+def is_model(tp: Any) -> bool:
+    """Whether ``tp`` is a pydantic model class."""
     return isinstance(tp, type) and issubclass(tp, BaseModel)
 
 
-def _tagged(members: list, disc: Any) -> dict[Any, Any]:
-    """Tag -> model of a discriminated union."""
+def union_tags(members: list, disc: Any) -> dict[Any, Any]:
+    """Tag -> model of a discriminated union's ``members``, for a field
+    discriminator (``disc`` a field name) or ``Tag``-annotated members."""
     out = {}
     for m in members:
         tags = [a.tag for a in get_args(m)[1:] if isinstance(a, Tag)] \
             if get_origin(m) is Annotated else []
         base, _ = _strip(m)
-        if not tags and isinstance(disc, str) and _is_model(base):
+        if not tags and isinstance(disc, str) and is_model(base):
             tags = list(get_args(base.model_fields[disc].annotation))
         for t in tags:
             out[t] = base
@@ -305,11 +306,11 @@ def _walk(loc: tuple) -> tuple[tuple, Any, Any]:
                     continue
             break
         if get_origin(tp) in (Union, UnionType):
-            tp = _tagged(members, disc).get(item) if disc is not None else None
+            tp = union_tags(members, disc).get(item) if disc is not None else None
             disc = None
             continue  # a tag or a union member name: not part of the user's path
         disc = None
-        if _is_model(tp):
+        if is_model(tp):
             owner = tp
             path.append(item)
             field = tp.model_fields.get(item)
@@ -325,11 +326,11 @@ def _walk(loc: tuple) -> tuple[tuple, Any, Any]:
             path.append(item)
             tp = None
     end, _ = _strip(tp)
-    return tuple(path), owner, end if _is_model(end) else None
+    return tuple(path), owner, end if is_model(end) else None
 
 
 def _literal_values(owner: Any, name: Any) -> list:
-    field = owner.model_fields.get(name) if _is_model(owner) else None
+    field = owner.model_fields.get(name) if is_model(owner) else None
     if field is None:
         return []
     tp = field.annotation
@@ -353,7 +354,7 @@ def _expected_kind(etype: str) -> str | None:
 
 
 def _bound_text(bound: float, owner: Any, name: Any) -> str:
-    field = owner.model_fields.get(name) if _is_model(owner) else None
+    field = owner.model_fields.get(name) if is_model(owner) else None
     extra = field.json_schema_extra if field and isinstance(field.json_schema_extra, dict) else {}
     if "dimension" in extra and bound != 0:
         return units.format_quantity(bound, extra["dimension"], extra.get("unit"))
@@ -367,7 +368,7 @@ def _message(err: dict, data: Any) -> tuple[str, tuple]:
     name = path[-1] if path else None
     given = err.get("input")
     if etype == "missing":
-        field = owner.model_fields.get(name) if _is_model(owner) else None
+        field = owner.model_fields.get(name) if is_model(owner) else None
         desc = (field.description or "").rstrip(".") if field else ""
         msg = f"missing required field '{name}'"
         if desc:
@@ -377,14 +378,14 @@ def _message(err: dict, data: Any) -> tuple[str, tuple]:
             msg += f", e.g. '{name}: {units.DIMENSIONS[extra['dimension']][2]}'"
         return msg, path
     if etype == "extra_forbidden":
-        keys = list(owner.model_fields) if _is_model(owner) else []
+        keys = list(owner.model_fields) if is_model(owner) else []
         close = difflib.get_close_matches(str(name), keys, n=1)
         hint = f"did you mean '{close[0]}'?" if close else f"valid keys here are {', '.join(keys)}"
         return f"unknown key '{name}'; {hint}", path
     if etype in ("union_tag_invalid", "union_tag_not_found"):
         key = str(ctx.get("discriminator", "")).strip("'")
-        tags = _tagged([a for a in get_args(_strip(owner.model_fields[name].annotation)[0])],
-                       key) if _is_model(owner) and name in owner.model_fields else {}
+        tags = union_tags([a for a in get_args(_strip(owner.model_fields[name].annotation)[0])],
+                       key) if is_model(owner) and name in owner.model_fields else {}
         options = ", ".join(map(str, tags)) or str(ctx.get("expected_tags", ""))
         if etype == "union_tag_not_found":
             return f"missing required field '{key}'; expected one of {options}", path + (key,)
@@ -434,7 +435,7 @@ def _second(items: list, name: str, key=lambda x: x) -> int | None:
 def _refine(msg: str, path: tuple, end: Any, data: Any) -> tuple[str, tuple]:
     """Point a whole-mapping error at the key it is about."""
     m = re.match(r"(\w+): (.*)$", msg)
-    if m and _is_model(end) and m.group(1) in end.model_fields:
+    if m and is_model(end) and m.group(1) in end.model_fields:
         return m.group(2), path + (m.group(1),)
     name_of = (lambda x: x.get("name") if isinstance(x, dict) else x)
     for pattern, sub in _REFINE:

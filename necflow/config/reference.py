@@ -14,10 +14,11 @@ from pathlib import Path
 from types import UnionType
 from typing import Annotated, Any, Union, get_args, get_origin
 
-from pydantic import BaseModel, Discriminator, Tag
+from pydantic import BaseModel, Discriminator
 from pydantic.fields import FieldInfo
 from pydantic_core import PydanticUndefined
 
+from necflow.config.load import is_model, union_tags
 from necflow.config.schema import Design
 
 START = "<!-- design-keys:start -->"
@@ -43,21 +44,9 @@ def _unwrap(tp: Any) -> tuple[Any, Any]:
             return tp, disc
 
 
-def _is_model(tp: Any) -> bool:
-    return isinstance(tp, type) and issubclass(tp, BaseModel)
-
-
 def _members(tp: Any, disc: Any) -> list[tuple[str, type]]:
     """(tag, model) for each member of a discriminated union."""
-    out = []
-    for m in get_args(tp):
-        tags = [a.tag for a in get_args(m)[1:] if isinstance(a, Tag)] \
-            if get_origin(m) is Annotated else []
-        base, _ = _unwrap(m)
-        if not tags and isinstance(disc, str):
-            tags = [str(t) for t in get_args(base.model_fields[disc].annotation)]
-        out += [(t, base) for t in tags]
-    return out
+    return [(str(tag), model) for tag, model in union_tags(list(get_args(tp)), disc).items()]
 
 
 def _summary(model: type) -> str:
@@ -113,7 +102,7 @@ def _rows(model: type, prefix: str, qualifier: str, skip: str | None = None) -> 
                 rows += _rows(member, sub, tag, skip=disc if isinstance(disc, str) else None)
             continue
         rows.append((path, qualifier, extra.get("unit", ""), _default(field, extra), desc))
-        if _is_model(target):
+        if is_model(target):
             rows += _rows(target, sub, qualifier)
     return rows
 
