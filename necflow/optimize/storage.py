@@ -100,11 +100,15 @@ def open_storage(storage_url: str | None, out: Path):
     if scheme.startswith("postgres") and "://" in storage_url:
         storage_url = re.sub(r"^postgres(ql)?:", "postgresql+psycopg2:", storage_url) \
             if "+" not in scheme else storage_url
+    import warnings
     try:
-        return optuna.storages.RDBStorage(
-            storage_url, heartbeat_interval=HEARTBEAT_S, grace_period=GRACE_S,
-            engine_kwargs={"pool_pre_ping": True, "connect_args": {"connect_timeout": 10}}
-            if scheme.startswith("postgres") else {})
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
+            return optuna.storages.RDBStorage(
+                storage_url, heartbeat_interval=HEARTBEAT_S, grace_period=GRACE_S,
+                engine_kwargs={"pool_pre_ping": True,
+                               "connect_args": {"connect_timeout": 10}}
+                if scheme.startswith("postgres") else {})
     except ImportError as exc:
         raise StorageError(f"cannot use {shown}: the database driver is missing "
                            f"({exc.name}); install psycopg2-binary") from None
@@ -171,8 +175,8 @@ def guard_resume(study, design, space) -> None:
     if old_space != new_space:
         changed = [f"{k} added" for k in new_space if k not in old_space]
         changed += [f"{k} removed" for k in old_space if k not in new_space]
-        changed += [f"{k} bounds or choices changed" for k in new_space
-                    if k in old_space and old_space[k] != new_space[k]]
+        changed += [f"{k} " + ", ".join(differences(old_space[k], new_space[k]))
+                    for k in new_space if k in old_space and old_space[k] != new_space[k]]
         raise ConfigError(f"study '{study.study_name}' was begun with another search space: "
                           f"{'; '.join(changed)}. Use a new --study name or --out folder to "
                           "start afresh", field="search")

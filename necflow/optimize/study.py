@@ -25,6 +25,7 @@ import signal
 import socket
 import threading
 import time
+import warnings
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Callable
@@ -111,7 +112,12 @@ def fail_orphans(study) -> int:
     S = _states()
     storage = study._storage
     if hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval():
-        return len(optuna.storages.fail_stale_trials(study) or [])
+        import warnings
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
+            before = len(study.get_trials(deepcopy=False, states=(S.FAIL,)))
+            optuna.storages.fail_stale_trials(study)
+            return len(study.get_trials(deepcopy=False, states=(S.FAIL,))) - before
     host, n = socket.gethostname(), 0
     now = time.time()
     for t in study.get_trials(deepcopy=False, states=(S.RUNNING,)):
@@ -263,7 +269,9 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
     beats = hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval()
     host, pid = socket.gethostname(), os.getpid()
     fail_orphans(study)
-    with _Signals() as sig:
+    with _Signals() as sig, warnings.catch_warnings():
+        # ask/tell is used on purpose; the heartbeat is recorded by this loop
+        warnings.filterwarnings("ignore", message="Heartbeat of storage")
         while True:
             if sig.stop:
                 return f"stopped by {sig.stop}"

@@ -1,0 +1,151 @@
+"""What a study leaves in its run folder.
+
+``best.yaml``        the best design, resolved, that ``necflow evaluate`` reads as it is
+``leaderboard.csv``  the best trials: every parameter and every cost term per band
+``best-bands.txt``   the best design's per-band table
+``best/``            the evaluate outputs of the best design (results.json, results.csv,
+                     swr.png, design.resolved.yaml, manifest.json)
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import sys
+from dataclasses import dataclass
+from pathlib import Path
+
+from necflow.errors import NecflowError
+from necflow.optimize.storage import redact_url
+
+LEADERBOARD_ROWS = 25
+
+
+@dataclass
+class StudyOutputs:
+    best_trial: object
+    best_design: object
+    evaluation: object
+    folder: Path
+
+
+def best_trial(study):
+    """The trial to report: the lowest cost, or on a Pareto front the member
+    lowest in the first objective."""
+    try:
+        if len(study.directions) == 1:
+            return study.best_trial
+        return min(study.best_trials, key=lambda t: t.values[0])
+    except ValueError:
+        raise NecflowError(f"study '{study.study_name}' has no complete trial yet") from None
+
+
+def ranked_trials(study, n: int = LEADERBOARD_ROWS) -> list:
+    """Complete trials, best first (Pareto front first in multi-objective mode)."""
+    from optuna.trial import TrialState
+
+    done = study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,))
+    if len(study.directions) == 1:
+        return sorted(done, key=lambda t: (t.value, t.number))[:n]
+    front = {t.number for t in study.best_trials}
+    return sorted(done, key=lambda t: (t.number not in front, t.values[0], t.number))[:n]
+
+
+def leaderboard_csv(study, space, objectives) -> str:
+    """CSV text: rank, trial, objectives, parameters (display units), band terms."""
+    rows = ranked_trials(study)
+    band_keys: list[str] = []
+    for t in rows:
+        for k, v in t.user_attrs.items():
+            if k.startswith("band:"):
+                for term in v:
+                    key = f"{k[5:]}.{term}"
+                    if key not in band_keys:
+                        band_keys.append(key)
+    head = ["rank", "trial"] + list(objectives)
+    from necflow.units import _DISPLAY
+    for p in space.params:
+        head.append(f"{p.path} [{_DISPLAY[p.dimension]}]" if p.dimension else p.path)
+    head += ["cost", "worst_swr", "loss_db"] + band_keys
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(head)
+    from necflow import units
+    for rank, t in enumerate(rows, 1):
+        row = [rank, t.number] + [f"{v:.6g}" for v in t.values]
+        for p in space.params:
+            v = t.params.get(p.path)
+            if p.dimension and isinstance(v, float):
+                v = units.format_quantity(v, p.dimension).split()[0]
+            row.append(v)
+        terms = t.user_attrs.get("necflow.terms", {})
+        row += [f"{terms.get(k, math.nan):.6g}" for k in ("cost", "worst_swr", "loss_db")]
+        for key in band_keys:
+            band, term = key.rsplit(".", 1)
+            row.append(f"{t.user_attrs.get('band:' + band, {}).get(term, math.nan):.6g}")
+        w.writerow(row)
+    return buf.getvalue()
+
+
+def best_yaml(design, study, trial, storage_shown: str) -> str:
+    """The best design as resolved YAML, with comment lines naming its study."""
+    from necflow.config.resolve import resolved_yaml
+
+    values = ", ".join(f"{v:.6g}" for v in trial.values)
+    head = (f"# Best design of study '{study.study_name}' (trial {trial.number}, "
+            f"objective {values})\n# storage: {redact_url(storage_shown)}\n")
+    return head + resolved_yaml(design)
+
+
+def band_table_text(evaluation, title: str) -> str:
+    from rich.console import Console
+
+    from necflow.report.tables import band_table
+
+    buf = io.StringIO()
+    Console(file=buf, width=120, highlight=False, color_system=None).print(
+        band_table(evaluation.band_summaries(), evaluation.design.goal.swr_limit, title=title))
+    return buf.getvalue()
+
+
+def write_evaluation(evaluation, folder: Path, *, config_path: str, started) -> None:
+    """The evaluate outputs of one design into ``folder``."""
+    from necflow.config.resolve import config_sha256, resolved_yaml
+    from necflow.report import results, run_folder
+    from necflow.report.plots import save_swr_png
+
+    folder.mkdir(parents=True, exist_ok=True)
+    sha = config_sha256(Path(config_path))
+    doc = results.results_document(evaluation, config_sha256=sha)
+    (folder / "design.resolved.yaml").write_text(resolved_yaml(evaluation.design),
+                                                 encoding="utf-8")
+    results.write_json(doc, folder / "results.json")
+    (folder / "results.csv").write_text(results.csv_text(doc), encoding="utf-8")
+    save_swr_png(evaluation, folder / "swr.png")
+    run_folder.write_manifest(folder, config_sha256=sha, config_path=config_path,
+                              started=started, finished=run_folder.now_utc(),
+                              argv=[redact_url(a) for a in ["necflow", *sys.argv[1:]]])
+
+
+def write_outputs(study, design, space, out: Path, *, storage_shown: str,
+                  solver=None) -> StudyOutputs:
+    """Write best.yaml, leaderboard.csv, best-bands.txt and best/ for a study."""
+    from necflow.optimize.space import apply
+    from necflow.pipeline import evaluate
+    from necflow.report import run_folder
+
+    started = run_folder.now_utc()
+    out.mkdir(parents=True, exist_ok=True)
+    trial = best_trial(study)
+    variant = apply(design, trial.params)
+    evaluation = evaluate(variant, solver=solver)
+    best_path = out / "best.yaml"
+    best_path.write_text(best_yaml(variant, study, trial, storage_shown), encoding="utf-8")
+    (out / "leaderboard.csv").write_text(
+        leaderboard_csv(study, space, design.cost.objectives), encoding="utf-8")
+    (out / "best-bands.txt").write_text(
+        band_table_text(evaluation, f"best of study '{study.study_name}' (trial "
+                        f"{trial.number})"), encoding="utf-8")
+    write_evaluation(evaluation, out / "best", config_path=str(best_path), started=started)
+    return StudyOutputs(trial, variant, evaluation, out)
