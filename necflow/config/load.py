@@ -427,9 +427,13 @@ def _message(err: dict, data: Any) -> tuple[str, tuple]:
     return _refine(msg, path, end, data)
 
 
-def _second(items: list, name: str, key=lambda x: x) -> int | None:
-    hits = [i for i, x in enumerate(items) if key(x) == name]
-    return hits[1] if len(hits) > 1 else None
+# Whole-mapping errors about one key: (message pattern, list key, id key, tail)
+# for duplicates (pointed at the second occurrence), and (pattern, sub-path).
+_DUPLICATES = [(r"duplicate element id\(s\) in feed: ([^,]+)", "feed", "id", ("id",)),
+               (r"band\(s\) listed twice: ([^,]+)", "bands", "name", ()),
+               (r"duplicate wire name\(s\): ([^,]+)", "wires", "name", ("name",))]
+_KEY_OF = [(r"feed wire ", ("feed", "wire")), (r"give 'q' or 'esr', not both", ("esr",)),
+           (r"droop must", ("droop",)), (r"value must be positive", ("value",))]
 
 
 def _refine(msg: str, path: tuple, end: Any, data: Any) -> tuple[str, tuple]:
@@ -437,34 +441,16 @@ def _refine(msg: str, path: tuple, end: Any, data: Any) -> tuple[str, tuple]:
     m = re.match(r"(\w+): (.*)$", msg)
     if m and is_model(end) and m.group(1) in end.model_fields:
         return m.group(2), path + (m.group(1),)
-    name_of = (lambda x: x.get("name") if isinstance(x, dict) else x)
-    for pattern, sub in _REFINE:
-        m = re.match(pattern, msg)
-        if not m:
-            continue
-        if sub == "feed-id":
-            j = _second(_raw(data, ("feed",)), m.group(1).split(", ")[0],
-                        lambda x: x.get("id") if isinstance(x, dict) else None)
-            return msg, ("feed", j, "id") if j is not None else path
-        if sub == "band":
-            j = _second(_raw(data, ("bands",)), m.group(1).split(", ")[0], name_of)
-            return msg, ("bands", j) if j is not None else path
-        if sub == "wire-name":
-            j = _second(_raw(data, path + ("wires",)), m.group(1).split(", ")[0], name_of)
-            return msg, path + ("wires", j, "name") if j is not None else path
-        return msg, path + sub
+    for pattern, key, attr, tail in _DUPLICATES:
+        if m := re.match(pattern, msg):
+            items = _raw(data, path + (key,))
+            hits = [i for i, x in enumerate(items if isinstance(items, list) else [])
+                     if (x.get(attr) if isinstance(x, dict) else x) == m.group(1)]
+            return msg, (path + (key, hits[1]) + tail) if len(hits) > 1 else path
+    for pattern, sub in _KEY_OF:
+        if re.match(pattern, msg):
+            return msg, path + sub
     return msg, path
-
-
-_REFINE: list[tuple[str, Any]] = [
-    (r"duplicate element id\(s\) in feed: (.+)$", "feed-id"),
-    (r"band\(s\) listed twice: (.+)$", "band"),
-    (r"duplicate wire name\(s\): (.+)$", "wire-name"),
-    (r"feed wire ", ("feed", "wire")),
-    (r"give 'q' or 'esr', not both", ("esr",)),
-    (r"droop must", ("droop",)),
-    (r"value must be positive", ("value",)),
-]
 
 
 def _translate(exc: ValidationError, data: Any) -> list[tuple[str, tuple | None]]:

@@ -183,6 +183,8 @@ BAD_CASES: list[BadCase] = [
             8, "antenna.wires[1].end", "three lengths"),
     BadCase("feed-wire-unknown", _antenna(_WIRES.replace("wire: top", "wire: tip")), 9,
             "antenna.feed.wire", "feed wire 'tip' is not a wire name"),
+    BadCase("duplicate-wire-name", _antenna(_WIRES.replace("name: drop", "name: top")), 8,
+            "antenna.wires[1].name", "duplicate wire name(s): top"),
     BadCase("vee-both", _antenna(_VEE), 4, "antenna", "exactly one of 'end_height' and 'droop'"),
     BadCase("vee-neither", _antenna(_VEE.replace("  end_height: 4 m\n  droop: 30 deg\n", "")),
             4, "antenna", "exactly one of 'end_height' and 'droop'"),
@@ -212,6 +214,11 @@ BAD_CASES: list[BadCase] = [
     BadCase("custom-line-incomplete", _edit("line: window-450, length: 10 m",
                                             "line: custom, length: 10 m, impedance: 450 ohm"),
             11, "feed[0]", "a custom line needs 'velocity_factor', 'loss'"),
+    BadCase("custom-line-zero-frequency", _edit(
+        "line: window-450, length: 10 m",
+        "line: custom, length: 10 m, impedance: 450 ohm, velocity_factor: 0.9,\n"
+        "     loss: [{frequency: 0 MHz, db: 0.1}]"), 12, "feed[0].loss[0].frequency",
+        "must be positive, got '0 MHz'"),
     BadCase("q-and-esr", _edit("q: 1500}", "q: 1500, esr: 0.1 ohm}"), 12, "feed[1].esr",
             "give 'q' or 'esr', not both"),
     BadCase("ratio-malformed", _edit('ratio: "1:1"', 'ratio: "4-1"'), 13, "feed[2].ratio",
