@@ -26,7 +26,11 @@ def swr_figure(evaluation):
         ax = fig.add_subplot(rows, cols, i + 1)
         sel = evaluation.band_index == i
         f_mhz = evaluation.frequency_hz[sel] / 1e6
-        ax.plot(f_mhz, np.minimum(swr[sel], top * 1.5), marker=".", lw=1.5)
+        s = swr[sel]
+        ax.plot(f_mhz, np.minimum(s, top), marker=".", lw=1.5)
+        if np.any(s > top):
+            ax.text(0.5, 0.9, f"off scale: SWR up to {s.max():.3g} (min {s.min():.3g})",
+                    transform=ax.transAxes, ha="center", fontsize=8, color="tab:red")
         ax.axhline(limit, color="tab:red", ls="--", lw=1, label=f"limit {limit:g}")
         ax.set_ylim(1.0, top)
         ax.set_xlim(f_mhz.min(), f_mhz.max())
