@@ -501,6 +501,86 @@ class ModelSettings(Strict):
                               description="Refuse a model needing more segments than this")
 
 
+# ----------------------------------------------------------------------------
+# Report settings
+
+
+class ElevationOfInterest(Strict):
+    """An elevation angle at which the report gives antenna and system gain."""
+
+    label: str = Field(..., min_length=1, description="What the angle stands for "
+                       "(e.g. long distance, short-range net)")
+    elevation: Angle = quantity("angle", gt=0, le=1.5707963267948966 + 1e-12,
+                                description="Elevation above the horizon, above 0 and at "
+                                "most 90 deg")
+
+
+def _default_angles() -> list["ElevationOfInterest"]:
+    return [ElevationOfInterest(label="long distance", elevation="10 deg"),
+            ElevationOfInterest(label="medium range", elevation="30 deg"),
+            ElevationOfInterest(label="short range", elevation="70 deg")]
+
+
+class TunerSpec(Strict):
+    """The matching unit the report's alternatives add: a lossy L-network."""
+
+    inductor_q: float = Field(100.0, gt=0, description="Unloaded Q of its inductor "
+                              "(100 is common practice for a roller or tapped coil)")
+    capacitor_q: float = Field(1000.0, gt=0, description="Unloaded Q of its capacitor")
+    max_swr: float = Field(10.0, gt=1, description="Matching range: the highest SWR, "
+                           "against the radio's impedance, the unit can match")
+
+
+class AlternativeSpec(Strict):
+    """A named alternative feed system for the same antenna."""
+
+    name: str = Field(..., min_length=1, description="Name shown in the report")
+    feed: list[Element] = Field(..., description="Its feed chain from the antenna toward the "
+                                "radio, with the keys of 'feed'")
+    tuner: Literal["none", "radio", "feedpoint"] = Field(
+        "none", description="Add the matching unit at the radio or at the feedpoint")
+
+    @model_validator(mode="after")
+    def _unique_ids(self) -> "AlternativeSpec":
+        ids = [e.id for e in self.feed]
+        dup = sorted({i for i in ids if ids.count(i) > 1})
+        if dup:
+            raise ValueError(f"duplicate element id(s) in feed: {', '.join(dup)}")
+        return self
+
+
+class ReportSpec(Strict):
+    """What the decision report shows."""
+
+    elevations: list[ElevationOfInterest] = Field(
+        default_factory=_default_angles, description="Elevation angles of interest: antenna "
+        "and system gain are reported at each",
+        json_schema_extra={"default_text": "long distance 10 deg, medium range 30 deg, "
+                           "short range 70 deg"})
+    worst_case_power: Power = quantity("power", default="1500 W", gt=0,
+                                       description="Power for the worst-case stress figures")
+    far_field: Literal["centre", "across"] = Field(
+        "centre", description="Far field at each band's centre, or across the band (edges "
+        "and centre)")
+    exposure_duty: float = Field(1.0, gt=0, le=1, description="Duty factor of the mode for "
+                                 "the RF exposure estimate (1, a continuous carrier, is the "
+                                 "cautious choice)")
+    tuner: TunerSpec = Field(default_factory=TunerSpec, description="The matching unit of the "
+                             "alternatives")
+    alternatives: list[AlternativeSpec] = Field(default_factory=list, description="Your own "
+                                                "alternative feed systems to compare")
+
+    @model_validator(mode="after")
+    def _names(self) -> "ReportSpec":
+        names = [a.name for a in self.alternatives]
+        dup = sorted({n for n in names if names.count(n) > 1})
+        if dup:
+            raise ValueError(f"alternative name(s) listed twice: {', '.join(dup)}")
+        if not self.elevations:
+            raise ValueError("give at least one elevation of interest")
+        return self
+
+
 class Design(Strict):
     """A complete antenna system: radiator, ground, feed chain and radio."""
 
@@ -523,6 +603,8 @@ class Design(Strict):
         "used by 'necflow optimize', ignored by 'evaluate'")
     cost: CostSpec = Field(default_factory=CostSpec, description="How 'necflow optimize' "
                            "scores a design")
+    report: ReportSpec = Field(default_factory=ReportSpec, description="What the decision "
+                               "report shows")
 
     @model_validator(mode="after")
     def _unique_ids(self) -> "Design":
