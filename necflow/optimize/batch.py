@@ -1,0 +1,288 @@
+"""``necflow batch``: a base design and a matrix of overrides, cell by cell.
+
+A batch file names a base design, a matrix (each key a field path of the
+design, each value a list of alternatives) and a mode: ``evaluate`` each
+cell or ``optimize`` it.  Every cell is checked before any runs.  A cell
+that finished leaves ``cells/<id>/cell.json``; running the batch again
+skips it.  The summary is ``summary.csv``, a printed table and
+``summary.png``.
+
+Override paths: ``antenna.height``, ``ground`` (a whole mapping),
+``feed.<element id>.<key>``, ``search.<searched path>`` (e.g. the available
+span as ``search.antenna.span: [[20 m, 26 m], [20 m, 32 m]]``).
+"""
+
+from __future__ import annotations
+
+import copy
+import csv
+import io
+import itertools
+import json
+import os
+import re
+from concurrent.futures import ProcessPoolExecutor
+from multiprocessing import get_context
+from pathlib import Path
+from typing import Any, Literal
+
+import yaml
+from pydantic import BaseModel, ConfigDict, Field, ValidationError
+
+from necflow.errors import ConfigError
+
+
+class BatchSpec(BaseModel):
+    """The batch file."""
+
+    model_config = ConfigDict(extra="forbid")
+
+    name: str = Field(..., min_length=1, description="Name of the batch (run folder)")
+    base: str = Field(..., description="Base design file, relative to the batch file")
+    mode: Literal["evaluate", "optimize"] = Field("evaluate", description="What each cell does")
+    trials: int = Field(30, ge=1, description="Trials per cell (optimize mode)")
+    seed: int | None = Field(None, description="Sampler seed of every cell (optimize mode)")
+    matrix: dict[str, list[Any]] = Field(..., min_length=1, description="Field path -> "
+                                         "alternatives; the cells are every combination")
+
+
+def _set(data: dict, path: str, value: Any) -> None:
+    """Set a field of raw design data by its path (see the module notes)."""
+    if path.startswith("search."):
+        data.setdefault("search", {})[path[len("search."):]] = value
+        return
+    parts = path.split(".")
+    node: Any = data
+    if parts[0] == "feed" and len(parts) >= 3:
+        ids = [e.get("id") for e in data.get("feed", []) if isinstance(e, dict)]
+        if parts[1] not in ids:
+            raise ValueError(f"no feed element with id '{parts[1]}'; ids are "
+                             f"{', '.join(map(str, ids)) or '(none)'}")
+        node, parts = data["feed"][ids.index(parts[1])], parts[2:]
+    for p in parts[:-1]:
+        if not isinstance(node.get(p), dict):
+            raise ValueError(f"'{path}': '{p}' is not a mapping in the base design")
+        node = node[p]
+    node[parts[-1]] = value
+
+
+def _slug(value: Any) -> str:
+    text = json.dumps(value, separators=(",", ":")) if not isinstance(value, str) else value
+    return re.sub(r"[^A-Za-z0-9.]+", "", text)[:24]
+
+
+def cells(spec: BatchSpec) -> list[tuple[str, dict[str, Any]]]:
+    """Cell ids and their overrides, in matrix order."""
+    keys = list(spec.matrix)
+    out = []
+    for i, combo in enumerate(itertools.product(*(spec.matrix[k] for k in keys))):
+        over = dict(zip(keys, combo))
+        out.append((f"c{i:02d}-" + "-".join(_slug(v) for v in combo), over))
+    return out
+
+
+def load_batch(path) -> tuple[BatchSpec, list[tuple[str, dict, str]]]:
+    """Read a batch file; build and check every cell's design text.
+
+    Returns the spec and ``(cell id, overrides, design YAML)`` per cell.
+
+    Raises
+    ------
+    ConfigError
+        For the batch file itself, or naming the first cell whose design is invalid.
+    """
+    from necflow.config.load import load_design_text, parse_yaml
+
+    name = str(path)
+    try:
+        text = Path(path).read_text(encoding="utf-8-sig")
+    except OSError as exc:
+        raise ConfigError(f"cannot read the batch file: {exc.strerror or exc}",
+                          file=name) from None
+    data, lines = parse_yaml(text, name)
+    try:
+        spec = BatchSpec.model_validate(data)
+    except ValidationError as exc:
+        e = exc.errors(include_url=False)[0]
+        loc = tuple(e["loc"])
+        raise ConfigError(e["msg"], file=name, line=_line(loc, lines),
+                          field=".".join(map(str, loc)) or None) from None
+    base_path = Path(path).parent / spec.base
+    try:
+        base_text = base_path.read_text(encoding="utf-8-sig")
+    except OSError:
+        raise ConfigError(f"base design '{spec.base}' not found (looked for {base_path})",
+                          file=name, line=lines.get(("base",)), field="base") from None
+    base, _ = parse_yaml(base_text, str(base_path))
+    out = []
+    for cid, over in cells(spec):
+        d = copy.deepcopy(base)
+        for key, value in over.items():
+            try:
+                _set(d, key, value)
+            except ValueError as exc:
+                raise ConfigError(str(exc), file=name, line=lines.get(("matrix", key)),
+                                  field=f"matrix.{key}") from None
+        cell_text = yaml.safe_dump(d, sort_keys=False)
+        try:
+            design = load_design_text(cell_text, file=f"{base_path} [cell {cid}]")
+            if spec.mode == "optimize":
+                from necflow.optimize.space import build_space
+                if not design.search:
+                    raise ConfigError("optimize mode needs a 'search' section in the base "
+                                      "design or the matrix", field="search")
+                build_space(design, file=f"{base_path} [cell {cid}]")
+        except ConfigError as exc:
+            raise ConfigError(f"cell {cid} ({_describe(over)}) is invalid: {exc}", file=name,
+                              line=lines.get(("matrix",)), field="matrix") from None
+        out.append((cid, over, cell_text))
+    return spec, out
+
+
+def _line(path: tuple, lines: dict) -> int | None:
+    """Line of ``path`` in the YAML, or of its nearest parent."""
+    while path and path not in lines:
+        path = path[:-1]
+    return lines.get(path)
+
+
+def _describe(over: dict) -> str:
+    return ", ".join(f"{k}={json.dumps(v) if not isinstance(v, str) else v}"
+                     for k, v in over.items())
+
+
+def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
+             storage: str | None = None, solver=None) -> dict:
+    """Evaluate or optimise one cell; writes ``cell.json`` last; returns its summary."""
+    from necflow.config.load import load_design_text
+    from necflow.optimize.evaluator import ResponseCache, score_design
+
+    folder.mkdir(parents=True, exist_ok=True)
+    (folder / "design.yaml").write_text(text, encoding="utf-8")
+    design = load_design_text(text, file=str(folder / "design.yaml"))
+    summary: dict[str, Any] = {"cell": cid, "overrides": over}
+    if spec.mode == "evaluate":
+        evaluation, sc = score_design(design, ResponseCache(solver))
+    else:
+        import optuna
+
+        from necflow.optimize.outputs import write_outputs
+        from necflow.optimize.space import build_space
+        from necflow.optimize.storage import describe
+        from necflow.optimize.study import StudyOptions, run_study
+
+        optuna.logging.set_verbosity(optuna.logging.WARNING)
+        space = build_space(design)
+        opts = StudyOptions(out=folder, study_name=f"{spec.name}-{cid}", trials=spec.trials,
+                            storage=storage, seed=spec.seed)
+        study, _ = run_study(design, space, opts, solver=solver)
+        res = write_outputs(study, design, space, folder, storage_shown=describe(storage, folder),
+                            solver=solver)
+        evaluation, sc = score_design(res.best_design, ResponseCache(solver))
+        summary["best_trial"] = res.best_trial.number
+        summary["best_params"] = res.best_trial.params
+    summary.update({"cost": sc.cost, "worst_swr": sc.worst_swr, "loss_db": sc.loss_db,
+                    "bands": sc.bands})
+    tmp = folder / "cell.json.tmp"
+    tmp.write_text(json.dumps(summary, indent=1, default=str) + "\n", encoding="utf-8")
+    os.replace(tmp, folder / "cell.json")
+    return summary
+
+
+def run_batch(path, out: Path | None = None, *, workers: int = 1, storage: str | None = None,
+              solver=None) -> tuple[BatchSpec, list[dict], list[str], Path]:
+    """Run every unfinished cell; returns the spec, all cell summaries, the
+    ids of the cells skipped because they had finished before, and the folder."""
+    spec, todo = load_batch(path)
+    out = Path(out) if out else Path("runs") / f"{re.sub(r'[^A-Za-z0-9_.-]+', '-', spec.name)}-batch"
+    skipped, pending = [], []
+    for cid, over, text in todo:
+        if (out / "cells" / cid / "cell.json").exists():
+            skipped.append(cid)
+        else:
+            pending.append((cid, over, text))
+    if workers > 1 and len(pending) > 1:
+        with ProcessPoolExecutor(max_workers=workers, mp_context=get_context("spawn")) as ex:
+            futs = [ex.submit(run_cell, spec, cid, over, text, out / "cells" / cid, storage,
+                              solver) for cid, over, text in pending]
+            for f in futs:
+                f.result()
+    else:
+        for cid, over, text in pending:
+            run_cell(spec, cid, over, text, out / "cells" / cid, storage, solver)
+    summaries = [json.loads((out / "cells" / cid / "cell.json").read_text())
+                 for cid, _, _ in todo]
+    write_summary(spec, summaries, out)
+    return spec, summaries, skipped, out
+
+
+def _short(value: Any) -> str:
+    """A matrix value in a few characters: mappings by their values."""
+    if isinstance(value, dict):
+        return "/".join(_short(v) for v in value.values())
+    if isinstance(value, list):
+        return "[" + ", ".join(_short(v) for v in value) + "]"
+    return str(value)
+
+
+def summary_rows(spec: BatchSpec, summaries: list[dict]) -> tuple[list[str], list[list]]:
+    keys = list(spec.matrix)
+    bands = list(summaries[0]["bands"]) if summaries else []
+    head = ["cell", *keys, "cost", "worst_swr", "loss_db"] + [f"{b}.swr_max" for b in bands]
+    rows = []
+    for s in summaries:
+        row = [s["cell"]] + [_short(s["overrides"][k]) for k in keys]
+        row += [f"{s['cost']:.4g}", f"{s['worst_swr']:.3g}", f"{s['loss_db']:.3g}"]
+        row += [f"{s['bands'][b]['swr_max']:.3g}" for b in bands]
+        rows.append(row)
+    return head, rows
+
+
+def write_summary(spec: BatchSpec, summaries: list[dict], out: Path) -> None:
+    """``summary.csv`` and ``summary.png`` (cost and worst SWR of every cell)."""
+    head, rows = summary_rows(spec, summaries)
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(head)
+    w.writerows(rows)
+    (out / "summary.csv").write_text(buf.getvalue(), encoding="utf-8")
+    import matplotlib
+    matplotlib.use("Agg", force=False)
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(max(5.0, 0.6 * len(summaries) + 2), 5.0), layout="constrained")
+    ax1, ax2 = fig.subplots(2, 1, sharex=True)
+    names = [s["cell"][:3] for s in summaries]
+    ax1.bar(names, [s["cost"] for s in summaries], color="tab:blue")
+    ax1.set_ylabel("cost")
+    ax2.bar(names, [s["worst_swr"] for s in summaries], color="tab:orange")
+    ax2.set_ylabel("worst SWR")
+    ax2.set_xlabel("cell (see summary.csv)")
+    fig.suptitle(f"batch {spec.name}: {spec.mode}")
+    fig.savefig(out / "summary.png", dpi=100)
+
+
+def run_batch_command(args, out, err) -> int:
+    """Glue of ``necflow batch``."""
+    from rich.console import Console
+    from rich.table import Table
+
+    if args.workers < 1:
+        raise ConfigError(f"--workers must be at least 1, got {args.workers}", field="--workers")
+    spec, summaries, skipped, folder = run_batch(
+        args.study, Path(args.out) if args.out else None, workers=args.workers,
+        storage=args.storage)
+    head, rows = summary_rows(spec, summaries)
+    n = len(spec.matrix) + 4  # cell, matrix keys, cost, worst SWR, loss (bands: summary.csv)
+    head, rows = head[:n], [r[:n] for r in rows]
+    rows = [[r[0][:3], *r[1:]] for r in rows]
+    t = Table(title=f"batch {spec.name} ({spec.mode}); {len(skipped)} cell(s) done before, "
+              "skipped", title_justify="left")
+    for h in head:
+        t.add_column(h, justify="left" if h == "cell" else "right")
+    for r in rows:
+        t.add_row(*map(str, r))
+    console = Console(file=out, width=120, highlight=False, color_system=None)
+    console.print(t)
+    console.print(f"batch folder: {folder} (summary.csv with every band, summary.png)")
+    return 0

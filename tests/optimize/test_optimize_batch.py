@@ -1,0 +1,73 @@
+"""``necflow batch``: cells from a matrix, summary, finished cells skipped."""
+
+from __future__ import annotations
+
+import csv
+
+import pytest
+
+from necflow.errors import ConfigError
+from necflow.optimize.batch import run_batch
+from tests.conftest import dipole_like_solver
+from tests.optimize.helpers import write_study
+
+BATCH = """\
+name: sites
+base: design.yaml
+mode: {mode}
+trials: 4
+seed: 3
+matrix:
+  antenna.height: [8 m, 12 m]
+  feed.coax.length: [20 m, 40 m]
+"""
+
+
+def _batch(tmp_path, mode="evaluate", extra=""):
+    write_study(tmp_path)
+    path = tmp_path / "batch.yaml"
+    path.write_text(BATCH.format(mode=mode) + extra)
+    return path
+
+
+def test_evaluate_cells_summary_and_skip(tmp_path):
+    path = _batch(tmp_path)
+    out = tmp_path / "out"
+    spec, summaries, skipped, _ = run_batch(path, out, solver=dipole_like_solver)
+    assert skipped == [] and len(summaries) == 4
+    rows = list(csv.DictReader(open(out / "summary.csv")))
+    assert [(r["antenna.height"], r["feed.coax.length"]) for r in rows] == [
+        ("8 m", "20 m"), ("8 m", "40 m"), ("12 m", "20 m"), ("12 m", "40 m")]
+    # a longer coax run dissipates more: the loss term must rise with it
+    assert float(rows[1]["loss_db"]) > float(rows[0]["loss_db"])
+    assert (out / "summary.png").stat().st_size > 0
+    (out / "cells" / summaries[2]["cell"] / "cell.json").unlink()
+    _, again, skipped, _ = run_batch(path, out, solver=dipole_like_solver)
+    assert len(skipped) == 3 and summaries[2]["cell"] not in skipped
+    assert [s["cost"] for s in again] == pytest.approx([s["cost"] for s in summaries],
+                                                       rel=1e-12)
+
+
+def test_optimize_cells_write_their_best_design(tmp_path):
+    path = _batch(tmp_path, "optimize")
+    out = tmp_path / "out"
+    _, summaries, _, _ = run_batch(path, out, solver=dipole_like_solver)
+    for s in summaries:
+        assert (out / "cells" / s["cell"] / "best.yaml").exists()
+        assert set(s["best_params"]) == {"antenna.span", "feed.ladder.length",
+                                         "feed.cap.value"}
+
+
+def test_bad_matrix_key_is_an_input_error(tmp_path):
+    path = _batch(tmp_path, extra="  feed.tuner.length: [1 m]\n")
+    with pytest.raises(ConfigError) as info:
+        run_batch(path, tmp_path / "out", solver=dipole_like_solver)
+    assert info.value.field == "matrix.feed.tuner.length" and info.value.line == 9
+    assert "no feed element" in info.value.message
+
+
+def test_invalid_cell_is_refused_before_any_runs(tmp_path):
+    path = _batch(tmp_path, extra="  antenna.span: [30 m, -2 m]\n")
+    with pytest.raises(ConfigError, match="cell c01-.* is invalid"):
+        run_batch(path, tmp_path / "out", solver=dipole_like_solver)
+    assert not (tmp_path / "out").exists()
