@@ -1,0 +1,151 @@
+"""Alternative feed systems for one antenna, side by side.
+
+Each alternative is a feed chain (antenna side first) analysed against the
+same feedpoint impedance as the design: the design as it is, the design
+without its series parts, a matching unit (lossy L-network, see
+:mod:`necflow.feed.matching`) at the radio or at the feedpoint, and the
+user's own.  An optimised design from a study enters with its own
+feedpoint impedance.  All of this is circuit work: no engine solve.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from necflow.analysis.powerflow import SystemResponse, analyse
+from necflow.catalog.lines import LINE_TYPES
+from necflow.feed.chain import FeedChain, LineSection, build_chain
+from necflow.feed.matching import MatchingUnit, tune_l_network
+
+TUNER_ID = "matching unit"
+#: Line that replaces balanced line when the matching unit sits at the
+#: feedpoint and the chain has no unbalanced line of its own.
+DEFAULT_COAX = "rg-213"
+
+
+@dataclass(frozen=True)
+class Alternative:
+    """One feed system analysed over the frequencies of the comparison.
+
+    Attributes
+    ----------
+    name : str
+    description : str
+        What it changes, in one sentence.
+    system : SystemResponse
+        Power flow with the matching unit as element ``TUNER_ID`` if any.
+    tuner : MatchingUnit or None
+    """
+
+    name: str
+    description: str
+    system: SystemResponse
+    tuner: MatchingUnit | None = None
+
+
+def _with_tuner(chain: FeedChain, f, z_feed, z_ref, power, spec, at: str):
+    """The chain with a matching unit tuned at the radio end or the feedpoint."""
+    if at == "radio":
+        load = chain.input_impedance(f, z_feed)
+        unit = tune_l_network(f, load, z_ref, q_inductor=spec.inductor_q,
+                              q_capacitor=spec.capacitor_q, max_swr=spec.max_swr, id=TUNER_ID)
+        return FeedChain(chain.elements + (unit,)), unit
+    unit = tune_l_network(f, z_feed, z_ref, q_inductor=spec.inductor_q,
+                          q_capacitor=spec.capacitor_q, max_swr=spec.max_swr, id=TUNER_ID)
+    return FeedChain((unit,) + chain.elements), unit
+
+
+def remote_chain(chain: FeedChain) -> FeedChain:
+    """The chain a matching unit at the feedpoint would drive: lumped parts
+    dropped, balanced line replaced by the same length of the chain's first
+    unbalanced line (or RG-213), transformers and unbalanced lines kept."""
+    coax = next((e.line_type for e in chain.elements
+                 if isinstance(e, LineSection) and not e.line_type.balanced),
+                LINE_TYPES[DEFAULT_COAX])
+    out = []
+    for e in chain.elements:
+        if e.kind in ("series", "shunt"):
+            continue
+        if isinstance(e, LineSection) and e.line_type.balanced:
+            e = LineSection(e.id, coax, e.length)
+        out.append(e)
+    return FeedChain(tuple(out))
+
+
+def standard_alternatives(design, f, z_feed) -> list[Alternative]:
+    """The design, without its series parts, with a matching unit at the radio
+    and at the feedpoint, then the design file's own alternatives.
+
+    Parameters
+    ----------
+    design : Design
+    f : ndarray
+        Frequency [Hz], ``(n,)``.
+    z_feed : ndarray
+        Antenna feedpoint impedance [ohm], ``(n,)``.
+    """
+    z_ref, power = design.radio.impedance, design.radio.power
+    spec = design.report.tuner
+    chain = build_chain(design.feed, r_radio=z_ref)
+
+    def run(c: FeedChain) -> SystemResponse:
+        return analyse(c, f, z_feed, z_ref=z_ref, power_w=power)
+
+    series = [e.id for e in chain.elements if e.kind == "series"]
+    bare = FeedChain(tuple(e for e in chain.elements if e.kind != "series"))
+    radio_chain, radio_unit = _with_tuner(chain, f, z_feed, z_ref, power, spec, "radio")
+    remote = remote_chain(chain)
+    feed_chain, feed_unit = _with_tuner(remote, f, z_feed, z_ref, power, spec, "feedpoint")
+    out = [
+        Alternative("as designed", "the feed system of the design file", run(chain)),
+        Alternative("without series parts",
+                    ("the design without " + ", ".join(series)) if series
+                    else "the design has no series parts: the same chain", run(bare)),
+        Alternative("matching unit at the radio", "the design with a matching unit between "
+                    "the chain and the radio", run(radio_chain), radio_unit),
+        Alternative("matching unit at the feedpoint", "a matching unit at the antenna, then "
+                    "unbalanced line of the same length to the radio (parts dropped)",
+                    run(feed_chain), feed_unit),
+    ]
+    for alt in design.report.alternatives:
+        c = build_chain(alt.feed, r_radio=z_ref)
+        unit = None
+        if alt.tuner != "none":
+            c, unit = _with_tuner(c, f, z_feed, z_ref, power, spec, alt.tuner)
+        out.append(Alternative(alt.name, "from the design file", run(c), unit))
+    return out
+
+
+def optimised_alternative(best_design, f, z_feed_best) -> Alternative:
+    """The optimised design of a study, with its own feedpoint impedance."""
+    z_ref = best_design.radio.impedance
+    chain = build_chain(best_design.feed, r_radio=z_ref)
+    system = analyse(chain, f, z_feed_best, z_ref=z_ref, power_w=best_design.radio.power)
+    return Alternative("optimised", "the best design of the study", system)
+
+
+def system_gain_dbi(antenna_gain_dbi, total_loss_db) -> np.ndarray:
+    """System gain: antenna power gain less the feed system's total loss.
+
+    Parameters
+    ----------
+    antenna_gain_dbi : array_like
+        Antenna power gain [dBi] (wire and ground loss included).
+    total_loss_db : array_like
+        Available power of the radio over power delivered to the feedpoint
+        [dB] (mismatch at the radio included).
+
+    Returns
+    -------
+    ndarray
+        Gain referred to the radio's available power [dBi].
+
+    References
+    ----------
+    .. [1] C. A. Balanis, *Antenna Theory*, 3rd ed., Wiley 2005, sec. 2.9
+       (power gain against input power; the feed loss converts input power
+       to the source's available power).
+    """
+    return np.asarray(antenna_gain_dbi, dtype=float) - np.asarray(total_loss_db, dtype=float)
