@@ -106,7 +106,7 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
         extra={"study": opts.study_name, "storage": shown, "stopped": why,
                "trials_counted": len(counted), "best_trial": result.best_trial.number,
                "best_values": list(result.best_trial.values)})
-    return 130 if why in ("stopped by SIGINT",) else 0
+    return {"stopped by SIGINT": 130, "stopped by SIGTERM": 143}.get(why, 0)
 
 
 def _argv() -> list[str]:

@@ -138,8 +138,9 @@ def _flatten(data, prefix: str = "") -> dict[str, object]:
 
 
 def design_record(design) -> dict:
-    """The design as plain data, search excluded (the search is kept apart)."""
-    return json.loads(design.model_dump_json(exclude={"search"}))
+    """The design as plain data that decides the scores: search (kept apart)
+    and free-text description excluded."""
+    return json.loads(design.model_dump_json(exclude={"search", "description"}))
 
 
 def differences(old, new, limit: int = 4) -> list[str]:

@@ -103,18 +103,19 @@ def test_sigkill_twice_then_resume_keeps_every_finished_trial(tmp_path):
     assert (run / "best.yaml").exists()
 
 
-def test_sigint_stops_cleanly_and_resumes(tmp_path):
+@pytest.mark.parametrize("sig, code", [(signal.SIGINT, 130), (signal.SIGTERM, 143)])
+def test_signal_stops_cleanly_and_resumes(tmp_path, sig, code):
     design = write_study(tmp_path)
     run = tmp_path / "run"
     proc = _start(tmp_path, design, 100000)
     _wait_for_complete(proc, run, 3)
-    proc.send_signal(signal.SIGINT)
-    assert proc.wait(timeout=120) == 130
+    proc.send_signal(sig)
+    assert proc.wait(timeout=120) == code
     proc.stderr.close()
     study = _journal_study(run)
     assert not study.get_trials(states=(TrialState.RUNNING,))
     for t in study.get_trials(states=(TrialState.FAIL,)):
-        assert t.user_attrs[FAIL_REASON] == "interrupted by SIGINT"
+        assert t.user_attrs[FAIL_REASON] == f"interrupted by {sig.name}"
     assert (run / "best.yaml").exists(), "outputs are written after a clean stop"
     n = len(study.get_trials(states=(TrialState.COMPLETE,)))
     proc = _start(tmp_path, design, n + 2)

@@ -141,3 +141,44 @@ def test_outputs_best_design_reads_back(tmp_path):
     assert "antenna.span [m]" in rows[0] and "40m.swr_term" in rows[0]
     assert float(rows[0]["cost"]) == pytest.approx(study.best_value, rel=1e-5)
     assert (tmp_path / "run" / "best" / "results.json").exists()
+
+
+def test_password_never_reaches_outputs_or_logs(tmp_path, capsys, monkeypatch):
+    url = _postgres_url()
+    if not url:
+        pytest.skip("set NECFLOW_TEST_POSTGRES_URL to a PostgreSQL database to run this")
+    from urllib.parse import urlsplit
+
+    import necflow.engine
+    from necflow.cli import main
+
+    password = urlsplit(url).password
+    assert password, "the test database URL carries a password"
+    monkeypatch.setattr(necflow.engine, "solve_feedpoint", dipole_like_solver)
+    name = f"masking-{uuid.uuid4().hex[:8]}"
+    design = write_study(tmp_path)
+    code = main(["optimize", str(design), "--trials", "4", "--storage", url, "--study", name,
+                 "--out", str(tmp_path / "run")])
+    captured = capsys.readouterr()
+    assert code == 0, captured.err
+    assert password not in captured.out + captured.err
+    for f in (tmp_path / "run").rglob("*"):
+        if f.is_file() and f.suffix in (".yaml", ".json", ".csv", ".txt"):
+            assert password not in f.read_text(), f
+    assert "***" in (tmp_path / "run" / "best.yaml").read_text()
+    optuna.delete_study(study_name=name, storage=url)
+
+
+def test_multi_objective_pareto_front(tmp_path):
+    text = STUDY + "cost: {objectives: [worst_swr, loss_db]}\n"
+    design, space, study, _ = _run(tmp_path, 16, text=text)
+    front = study.best_trials
+    assert front and len(study.directions) == 2
+    done = study.get_trials(states=(TrialState.COMPLETE,))
+    for t in front:  # no complete trial is better in both objectives
+        assert not any(o.values[0] < t.values[0] and o.values[1] < t.values[1] for o in done)
+    out = write_outputs(study, design, space, tmp_path / "run", storage_shown="x",
+                        solver=dipole_like_solver)
+    assert out.best_trial.number in {t.number for t in front}
+    rows = list(csv.DictReader(open(tmp_path / "run" / "leaderboard.csv")))
+    assert {"worst_swr", "loss_db"} <= set(rows[0])
