@@ -52,7 +52,13 @@ def _parser() -> argparse.ArgumentParser:
     e.add_argument("--out", metavar="DIR", help="run folder (default runs/<name>-<timestamp>)")
     e.add_argument("--json", action="store_true",
                    help="print results.json to stdout instead of the table")
+    e.add_argument("--study", metavar="DIR", help="a study's run folder: show its best "
+                   "design as the 'optimised' alternative in the report")
     e.set_defaults(func=cmd_evaluate)
+
+    r = sub.add_parser("report", help="rebuild report.html of a run folder (no solve)")
+    r.add_argument("run_dir", metavar="RUN_DIR", help="run folder written by evaluate")
+    r.set_defaults(func=cmd_report)
 
     o = sub.add_parser("optimize", help="search the design's 'search' space for the lowest "
                        "cost; resumable, several workers or machines on one study")
@@ -170,9 +176,13 @@ def cmd_evaluate(args) -> int:
     results.write_json(doc, out / "results.json")
     (out / "results.csv").write_text(results.csv_text(doc), encoding="utf-8")
     save_swr_png(evaluation, out / "swr.png")
+    from necflow.report.decision import write_report, write_report_inputs
+    write_report_inputs(evaluation, out, config_sha256=sha,
+                        study_dir=getattr(args, "study", None))
     run_folder.write_manifest(out, config_sha256=sha, config_path=str(args.design),
                               started=started, finished=run_folder.now_utc(),
                               argv=["necflow", *sys.argv[1:]])
+    write_report(out)
     if args.json:
         json.dump(doc, sys.stdout, indent=1)
         print()
@@ -190,6 +200,13 @@ def cmd_evaluate(args) -> int:
     if evaluation.cautions:
         console.print(SAFETY_LINE)
     console.print(f"run folder: {out}")
+    return 0
+
+
+def cmd_report(args) -> int:
+    from necflow.report.decision import write_report
+
+    print(f"report: {write_report(Path(args.run_dir))}")
     return 0
 
 

@@ -1,0 +1,147 @@
+"""Figures of the decision report, drawn with matplotlib (Agg) from the run
+folder's documents and returned as PNG bytes for embedding."""
+
+from __future__ import annotations
+
+import io
+
+import numpy as np
+
+DPI = 80
+
+
+def _figure(w: float, h: float):
+    import matplotlib
+    matplotlib.use("Agg", force=False)
+    from matplotlib.figure import Figure
+    return Figure(figsize=(w, h), layout="constrained")
+
+
+def png_bytes(fig) -> bytes:
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=DPI)
+    return buf.getvalue()
+
+
+def _bands(results: dict) -> list[str]:
+    return [b["band"] for b in results["bands"]]
+
+
+def _grid(n: int, cols: int = 3) -> tuple[int, int]:
+    cols = min(n, cols)
+    return int(np.ceil(n / cols)), cols
+
+
+def swr_figure(results: dict, report: dict):
+    """SWR at the radio across each band for every alternative."""
+    bands = _bands(results)
+    f = np.array([p["frequency_hz"] for p in results["points"]]) / 1e6
+    band_of = np.array([p["band"] for p in results["points"]])
+    rows, cols = _grid(len(bands))
+    fig = _figure(4.0 * cols, 2.8 * rows)
+    limit = report["swr_limit"]
+    for i, band in enumerate(bands):
+        ax = fig.add_subplot(rows, cols, i + 1)
+        sel = band_of == band
+        for alt in report["alternatives"]:
+            s = np.array([np.inf if v is None else v for v in alt["swr"]], dtype=float)[sel]
+            ax.plot(f[sel], np.minimum(s, 10.0), marker=".", lw=1.2, label=alt["name"])
+        ax.axhline(limit, color="k", ls="--", lw=0.8)
+        ax.set_ylim(1.0, 10.0)
+        ax.set_title(band, fontsize=9)
+        ax.set_xlabel("MHz", fontsize=8)
+        ax.set_ylabel("SWR at radio", fontsize=8)
+        ax.tick_params(labelsize=7)
+        ax.grid(alpha=0.3)
+    fig.axes[0].legend(fontsize=6, loc="upper right")
+    fig.suptitle(f"SWR at the radio (dashed: limit {limit:g}; clipped at 10)", fontsize=10)
+    return fig
+
+
+def smith_figure(results: dict):
+    """Impedance at the feedpoint and at the radio on Smith charts, one
+    colour per band (scikit-rf's chart)."""
+    from skrf.plotting import smith
+
+    z0 = float(results["radio"]["impedance_ohm"])
+    fig = _figure(9.0, 4.6)
+    for k, (key, title) in enumerate((("z_feedpoint_ohm", "at the feedpoint"),
+                                      ("z_radio_ohm", "at the radio"))):
+        ax = fig.add_subplot(1, 2, k + 1)
+        smith(ax=ax, draw_labels=False, chart_type="z")
+        for band in _bands(results):
+            z = np.array([complex(*p[key]) for p in results["points"] if p["band"] == band])
+            g = (z - z0) / (z + z0)
+            ax.plot(g.real, g.imag, marker=".", ms=3, lw=1.0, label=band)
+        ax.set_title(f"impedance {title} ({z0:g} ohm chart)", fontsize=9)
+    fig.axes[0].legend(fontsize=6, loc="lower left")
+    return fig
+
+
+def loss_figure(report: dict):
+    """Stacked loss at each band's centre, one bar per alternative."""
+    alts = report["alternatives"]
+    bands = [b["band"] for b in alts[0]["bands"]]
+    rows, cols = _grid(len(bands), 4)
+    fig = _figure(3.2 * cols, 3.0 * rows + 0.6)
+    colours = {"mismatch": "tab:red", "line": "tab:blue", "series": "tab:orange",
+               "shunt": "tab:brown", "transformer": "tab:green", "matching": "tab:purple"}
+    seen = set()
+    for i, band in enumerate(bands):
+        ax = fig.add_subplot(rows, cols, i + 1)
+        for j, alt in enumerate(alts):
+            rec = alt["bands"][i]
+            bottom = 0.0
+            for term, v in rec["loss_db"].items():
+                if term == "total" or v is None or v <= 0:
+                    continue
+                kind = "mismatch" if term == "mismatch" else alt["element_kinds"].get(term, "line")
+                lab = kind if kind not in seen else None
+                seen.add(kind)
+                ax.bar(j, min(v, 30.0), bottom=bottom, color=colours.get(kind, "grey"),
+                       edgecolor="white", lw=0.5, label=lab)
+                bottom += v
+        ax.set_xticks(range(len(alts)), [str(j + 1) for j in range(len(alts))], fontsize=7)
+        ax.set_title(band, fontsize=9)
+        ax.set_ylabel("loss dB", fontsize=8)
+        ax.tick_params(labelsize=7)
+        ax.grid(axis="y", alpha=0.3)
+    fig.legend(loc="outside lower center", ncol=6, fontsize=7)
+    fig.suptitle("Where the power goes at each band's centre; bars numbered as in the "
+                 "alternatives table", fontsize=10)
+    return fig
+
+
+def pattern_figure(report: dict):
+    """Elevation cuts (broadside and strongest lobe) and the azimuth cut at
+    the take-off angle, at each band's centre."""
+    ffs = [r for r in report["far_field"] if r["centre"]]
+    n = len(ffs)
+    fig = _figure(7.0, 3.0 * n)
+    for i, r in enumerate(ffs):
+        top = max(r["peak_gain_dbi"], max(r["azimuth_gain_dbi"]))
+        floor = top - 30.0
+        ax = fig.add_subplot(n, 2, 2 * i + 1, projection="polar")
+        el = np.radians(r["elevation_deg"])
+        ax.plot(el, np.maximum(np.array(r["elevation_gain_dbi"]), floor), lw=1.2,
+                label=f"broadside ({r['broadside_azimuth_deg']:.0f} deg az)")
+        if abs(r["lobe_azimuth_deg"] - r["broadside_azimuth_deg"]) % 180 > 1:
+            ax.plot(el, np.maximum(np.array(r["lobe_elevation_gain_dbi"]), floor), lw=1.0,
+                    ls="--", label=f"strongest lobe ({r['lobe_azimuth_deg']:.0f} deg az)")
+        ax.set_ylim(floor, top + 1)
+        if report["ground"] != "free-space":
+            ax.set_thetamin(0)
+            ax.set_thetamax(180)
+        ax.set_title(f"{r['band']} {r['frequency_hz'] / 1e6:.3f} MHz: elevation, peak "
+                     f"{r['peak_gain_dbi']:.1f} dBi at {r['peak_elevation_deg']:.0f} deg",
+                     fontsize=8)
+        ax.tick_params(labelsize=6)
+        ax.legend(fontsize=6, loc="lower center")
+        ax2 = fig.add_subplot(n, 2, 2 * i + 2, projection="polar")
+        ax2.plot(np.radians(r["azimuth_deg"] + [r["azimuth_deg"][0]]),
+                 np.maximum(np.array(r["azimuth_gain_dbi"] + [r["azimuth_gain_dbi"][0]]),
+                            floor), lw=1.2)
+        ax2.set_ylim(floor, top + 1)
+        ax2.set_title(f"azimuth at {r['takeoff_deg']:.0f} deg elevation", fontsize=8)
+        ax2.tick_params(labelsize=6)
+    return fig

@@ -1,0 +1,264 @@
+"""The decision report: one self-contained, printable HTML file.
+
+Built from the run folder's ``results.json``, ``report_data.json`` and
+``manifest.json`` only, so ``necflow report RUN_DIR`` needs no solve.
+Images are embedded as base64 PNG; the page references nothing outside
+itself; every string that comes from the user or a file is escaped.
+"""
+
+from __future__ import annotations
+
+import base64
+import json
+from datetime import datetime, timezone
+from html import escape
+from pathlib import Path
+
+from necflow.errors import NecflowError
+from necflow.report import figures
+from necflow.report.report_data import read_report_data
+
+FILE_NAME = "report.html"
+
+CSS = """
+body{font-family:sans-serif;font-size:10.5pt;margin:1.5em auto;max-width:70em;color:#111}
+h1{font-size:17pt;margin-bottom:.2em} h2{font-size:13pt;border-bottom:1px solid #888;
+margin-top:1.6em} h3{font-size:11pt}
+table{border-collapse:collapse;margin:.5em 0;font-size:9pt} td,th{border:1px solid #bbb;
+padding:2px 6px;text-align:right} th{background:#eee} td.l,th.l{text-align:left}
+.caution{border:2px solid #b00;padding:.4em 1em;background:#fff4f4}
+.bad{color:#b00;font-weight:bold} .muted{color:#555;font-size:9pt}
+img{max-width:100%;height:auto;display:block;margin:.5em 0}
+@media print{body{max-width:none;margin:0;font-size:9pt} h2{break-after:avoid}
+table,img{break-inside:avoid} .noprint{display:none}}
+"""
+
+GENERAL_CAUTIONS = (
+    "High RF voltage: series capacitors, open-wire and window line and the ends of wire "
+    "antennas carry hundreds to thousands of volts; never touch them while transmitting.",
+    "RF exposure: keep people and animals out of the antenna's near field; the estimate "
+    "below is no substitute for your regulator's evaluation.",
+    "Power lines: never put an antenna, mast, throw line or yourself where anything could "
+    "touch or fall onto a power line.",
+    "Lightning: disconnect and ground feed lines when the station is not in use; follow "
+    "your electrical code for protection and bonding.",
+)
+
+
+def _e(x) -> str:
+    return escape(str(x), quote=True)
+
+
+def _num(x, fmt: str = ".2f", none: str = "-") -> str:
+    if x is None:
+        return none
+    return format(x, fmt)
+
+
+def _img(fig, alt: str) -> str:
+    data = base64.b64encode(figures.png_bytes(fig)).decode("ascii")
+    return f'<img alt="{_e(alt)}" src="data:image/png;base64,{data}">'
+
+
+def _table(head: list[str], rows: list[list[str]], left: int = 1) -> str:
+    h = "".join(f'<th class="l">{c}</th>' if i < left else f"<th>{c}</th>"
+                for i, c in enumerate(head))
+    body = "".join("<tr>" + "".join(f'<td class="l">{c}</td>' if i < left else f"<td>{c}</td>"
+                                    for i, c in enumerate(r)) + "</tr>" for r in rows)
+    return f"<table><tr>{h}</tr>{body}</table>"
+
+
+def _summary(results: dict, report: dict) -> str:
+    labels = [e["label"] for e in report["elevations"]]
+    out = []
+    for i, b in enumerate(results["bands"]):
+        scored = [(a, a["bands"][i]) for a in report["alternatives"]
+                  if a["bands"][i]["system_gain_dbi"] is not None]
+        if not scored:
+            continue
+        best = max(scored, key=lambda t: sum(t[1]["system_gain_dbi"]) / len(labels))
+        d = best[1]
+        gains = ", ".join(f"{_num(g, '.1f')} dBi {_e(lab)}"
+                          for g, lab in zip(d["system_gain_dbi"], labels))
+        out.append(f"<li><b>{_e(b['band'])}</b>: best system gain with <b>{_e(best[0]['name'])}"
+                   f"</b> ({gains}; SWR at the radio {_num(d['swr_centre'])} at the band's "
+                   f"centre, {_num(d['delivered_w'], '.0f')} W of {report['radio_power_w']:g} W "
+                   "reach the antenna)</li>")
+    return "<ul>" + "".join(out) + "</ul>"
+
+
+def _band_table(results: dict, report: dict) -> str:
+    ff = {r["band"]: r for r in report["far_field"] if r["centre"]}
+    labels = [e["label"] for e in report["elevations"]]
+    head = ["band", "range MHz", "min SWR", "at MHz", "max SWR", "mean loss dB",
+            "peak gain dBi", "at elev. deg", "efficiency", "avg. gain test"] + \
+        [f"gain dBi at {_e(lab)} ({e['elevation_deg']:.0f} deg)"
+         for lab, e in zip(labels, report["elevations"])]
+    rows = []
+    for b in results["bands"]:
+        r = ff.get(b["band"], {})
+        agt = r.get("average_gain")
+        agt_s = _num(agt, ".3f")
+        if r and not r["average_gain_ok"]:
+            agt_s = f'<span class="bad">{agt_s}</span>'
+        rows.append([_e(b["band"]), f"{b['low_hz'] / 1e6:.3f}-{b['high_hz'] / 1e6:.3f}",
+                     _num(b["swr_min"]), _num(b["frequency_swr_min_hz"] / 1e6, ".3f"),
+                     _num(b["swr_max"]), _num(b["loss_db_mean"]),
+                     _num(r.get("peak_gain_dbi"), ".1f"), _num(r.get("peak_elevation_deg"), ".0f"),
+                     _num(r.get("efficiency"), ".0%"), agt_s]
+                    + [_num(g, ".1f") for g in r.get("gain_at_angles_dbi", [])])
+    return _table(head, rows)
+
+
+def _alternatives(report: dict) -> str:
+    labels = [e["label"] for e in report["elevations"]]
+    alts = report["alternatives"]
+    parts = ["<ol>" + "".join(f"<li><b>{_e(a['name'])}</b>: {_e(a['description'])}</li>"
+                              for a in alts) + "</ol>"]
+    for i, b in enumerate(alts[0]["bands"]):
+        head = ["#", "alternative", "SWR centre", "SWR max", "mismatch dB", "lines dB",
+                "parts dB", "transformers dB", "matching unit dB", "total dB",
+                "delivered W"] + [f"system gain dBi {_e(lab)}" for lab in labels] + ["note"]
+        rows = []
+        for j, a in enumerate(alts):
+            d = a["bands"][i]
+            kinds = a["element_kinds"]
+            by = {"line": 0.0, "part": 0.0, "transformer": 0.0, "matching": 0.0}
+            for term, v in d["loss_db"].items():
+                if term in ("mismatch", "total") or v is None:
+                    continue
+                k = kinds.get(term, "line")
+                by["part" if k in ("series", "shunt") else k] += v
+            note = ""
+            if "tuner" in d:
+                t = d["tuner"]
+                note = (f"{_e(t['topology'])}" if t["can_match_centre"]
+                        else '<span class="bad">cannot match</span>')
+                if t["can_match_centre"] and not t["can_match_all"]:
+                    note += "; not across the whole band"
+            sg = d["system_gain_dbi"] or [None] * len(labels)
+            rows.append([str(j + 1), _e(a["name"]), _num(d["swr_centre"]), _num(d["swr_max"]),
+                         _num(d["loss_db"]["mismatch"]), _num(by["line"]), _num(by["part"]),
+                         _num(by["transformer"]),
+                         _num(by["matching"]) if "tuner" in d else "-",
+                         _num(d["loss_db"]["total"]), _num(d["delivered_w"], ".1f")]
+                        + [_num(g, ".1f") for g in sg] + [note])
+        parts.append(f"<h3>{_e(b['band'])} at {b['frequency_hz'] / 1e6:.3f} MHz</h3>"
+                     + _table(head, rows, left=2))
+    return "".join(parts)
+
+
+def _stress(report: dict) -> str:
+    p, pw = report["radio_power_w"], report["worst_case_power_w"]
+    head = ["element", "kind", f"peak V at {p:g} W", f"peak V at {pw:g} W", "where",
+            f"RMS A at {p:g} W", f"RMS A at {pw:g} W", f"dissipation W at {p:g} W",
+            f"dissipation W at {pw:g} W", "ratings", f"margin at {pw:g} W", "notes"]
+    rows = []
+    for r in report["stress"]:
+        where = f"{r['f_v_peak_hz'] / 1e6:.3f} MHz"
+        if r["position_m"] is not None:
+            where += f", {r['position_m']:.1f} m from the antenna end"
+        rates = ", ".join(f"{k.split('_')[0]} {v:g}" for k, v in r["ratings"].items()) or "none"
+        margin = ", ".join(
+            (f'<span class="bad">{k.split("_")[0]} x{v:.2f}</span>' if v is not None and v < 1
+             else f"{k.split('_')[0]} x{_num(v)}") for k, v in r["margin"].items()) or "-"
+        rows.append([_e(r["id"]), _e(r["kind"]), _num(r["v_peak"], ".0f"),
+                     _num(r["v_peak_worst"], ".0f"), where, _num(r["i_rms"]),
+                     _num(r["i_rms_worst"]), _num(r["p_diss_w"], ".1f"),
+                     _num(r["p_diss_worst_w"], ".1f"), _e(rates), margin,
+                     _e("; ".join(r["notes"]))])
+    per_band = []
+    ids = [r["id"] for r in report["stress"]]
+    for band, rs in report["stress_by_band"].items():
+        per_band.append([_e(band)] + [f"{_num(r['v_peak'], '.0f')} / {_num(r['v_peak_worst'], '.0f')}"
+                                      for r in rs])
+    return (_table(head, rows, left=2) + f"<h3>Peak voltage per band, V at {p:g} W / {pw:g} W"
+            "</h3>" + _table(["band"] + [_e(i) for i in ids], per_band))
+
+
+def _exposure(report: dict) -> str:
+    p, pw = report["radio_power_w"], report["worst_case_power_w"]
+    rows = [[_e(x["band"]), f"{x['frequency_hz'] / 1e6:.3f}", _num(x["limit_w_m2"] / 10, ".3f"),
+             _num(x["gain_dbi"], ".1f"), _num(x["distance_m"], ".1f"),
+             _num(x["distance_worst_m"], ".1f")] for x in report["exposure"]]
+    head = ["band", "MHz", "limit mW/cm2", "peak gain dBi", f"distance m at {p:g} W",
+            f"distance m at {pw:g} W"]
+    return (_table(head, rows) + '<p class="muted">Estimate of the distance beyond which '
+            "the power density falls below the general-population (uncontrolled) limit of "
+            "47 CFR 1.1310, from S = 2.56 P G / (4 pi R^2) with the antenna's peak gain, the "
+            f"radio's full power (duty factor {report['exposure_duty']:g}, no feed loss "
+            "deducted) and the usual ground-reflection factor. The far-field formula does not "
+            "hold in the reactive near field of an HF antenna, where distances this short lie; "
+            "your local regulator's limits and evaluation method decide.</p>")
+
+
+def _provenance(results: dict, manifest: dict, report: dict) -> str:
+    v = manifest.get("versions", {})
+    rows = [["design", _e(results["design"])],
+            ["config SHA-256", _e(results["config_sha256"])],
+            ["command", _e(manifest.get("command", ""))],
+            ["run", _e(f"{manifest.get('started_utc', '')} to {manifest.get('finished_utc', '')}")],
+            ["versions", _e(", ".join(f"{k} {x}" for k, x in v.items()))],
+            ["optimised design from", _e(report.get("optimised_from") or "no study")],
+            ["report written", _e(datetime.now(timezone.utc).isoformat(timespec="seconds"))]]
+    return _table(["", ""], rows, left=2)
+
+
+def render_html(results: dict, report: dict, manifest: dict) -> str:
+    """The report page as text."""
+    name = _e(results["design"])
+    cautions = "".join(f"<li>{_e(c)}</li>" for c in GENERAL_CAUTIONS)
+    found = "".join(f"<li>{_e(c)}</li>" for c in results.get("cautions", []))
+    findings = "".join(f"<li>{_e(f.get('severity', ''))}: {_e(f.get('rule', ''))}: "
+                       f"{_e(f.get('message', ''))}</li>" for f in results.get("findings", []))
+    return f"""<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>necflow report: {name}</title><style>{CSS}</style></head><body>
+<h1>{name}</h1>
+<p class="muted">{report['radio_power_w']:g} W from a {report['z_ref_ohm']:g} ohm radio;
+SWR limit {report['swr_limit']:g}; ground: {_e(report['ground'])}.</p>
+<div class="caution"><b>Cautions</b><ul>{cautions}{found}</ul>
+Follow local codes, your licence conditions and licensed practice.</div>
+<h2>Summary</h2>{_summary(results, report)}
+<h2>Bands</h2>{_band_table(results, report)}
+<p class="muted">Gains are power gains at each band's centre (wire and ground loss included);
+peak gain in the plane of the strongest lobe; gain at an elevation is the best over all
+azimuths. Average gain test: the lossless model over perfect ground (or in free space) should
+give 2.0 (1.0) within a few percent.</p>
+<h2>Alternatives</h2>{_alternatives(report)}
+<p class="muted">System gain = antenna gain less the feed system's total loss (from the radio's
+available power to the feedpoint). The matching unit is a lossy L-network (topology chosen per
+frequency) within its matching range.</p>
+<h2>SWR</h2>{_img(figures.swr_figure(results, report), "SWR at the radio per band")}
+<h2>Impedance</h2>{_img(figures.smith_figure(results), "Smith charts")}
+<h2>Loss budget</h2>{_img(figures.loss_figure(report), "stacked loss per alternative")}
+<h2>Patterns</h2>{_img(figures.pattern_figure(report), "elevation and azimuth patterns")}
+<h2>Component stress</h2>{_stress(report)}
+<h2>RF exposure estimate</h2>{_exposure(report)}
+<h2>Model findings</h2><ul>{findings or "<li>all modelling rules satisfied</li>"}</ul>
+<h2>Provenance</h2>{_provenance(results, manifest, report)}
+</body></html>
+"""
+
+
+def _read(path: Path) -> dict:
+    try:
+        return json.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise NecflowError(f"{path} is missing: is this a necflow run folder?") from None
+    except (OSError, ValueError) as exc:
+        raise NecflowError(f"cannot read {path}: {exc}") from None
+
+
+def write_report(folder) -> Path:
+    """(Re)write ``report.html`` in a run folder from the files it holds."""
+    folder = Path(folder)
+    if not folder.is_dir():
+        raise NecflowError(f"{folder} is not a folder")
+    results = _read(folder / "results.json")
+    report = read_report_data(folder)
+    manifest = _read(folder / "manifest.json") if (folder / "manifest.json").exists() else {}
+    path = folder / FILE_NAME
+    path.write_text(render_html(results, report, manifest), encoding="utf-8")
+    return path
