@@ -71,3 +71,16 @@ def test_invalid_cell_is_refused_before_any_runs(tmp_path):
     with pytest.raises(ConfigError, match="cell c01-.* is invalid"):
         run_batch(path, tmp_path / "out", solver=dipole_like_solver)
     assert not (tmp_path / "out").exists()
+
+
+def test_shipped_batch_files_load():
+    import itertools
+
+    from necflow.optimize.batch import load_batch
+    from tests.optimize.helpers import ROOT
+
+    files = sorted((ROOT / "configs" / "batches").glob("*.yaml"))
+    assert files
+    for f in files:
+        spec, todo = load_batch(f)   # every cell's design passes the schema
+        assert len(todo) == len(list(itertools.product(*spec.matrix.values())))
