@@ -1,0 +1,106 @@
+"""Stress figures against the power flow, exposure distance against a hand
+calculation, alternatives and system gain bookkeeping (no engine)."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+from necflow.analysis import analyse
+from necflow.analysis.alternatives import remote_chain, standard_alternatives, system_gain_dbi
+from necflow.analysis.exposure import compliance_distance_m, uncontrolled_limit_w_m2
+from necflow.analysis.stress_table import scale_to_power, stress_rows
+from necflow.config.schema import Design
+from necflow.feed import build_chain
+
+
+def _design(**report):
+    return Design(name="stress-test", bands=["40m"], ground={"model": "free-space"},
+                  antenna={"shape": "doublet", "span": "20 m", "height": "10 m"},
+                  feed=[{"id": "ladder", "line": "window-450", "length": "10 m"},
+                        {"id": "cap", "series": "capacitor", "value": "200 pF", "q": 500,
+                         "voltage_rating": "500 V", "current_rating": "10 A"},
+                        {"id": "coax", "line": "rg-213", "length": "20 m"}],
+                  report=report)
+
+
+F = np.array([7.0e6, 7.1e6, 7.2e6])
+Z_FEED = np.array([40 - 250j, 60 - 20j, 90 + 200j])
+
+
+def test_series_capacitor_voltage_is_current_times_reactance():
+    # V = I |Z| across a series part, P = I^2 ESR (Pozar sec. 2.6 / 6.1: unloaded
+    # Q = X / R): both exact for the phasors of the power flow, so 1e-9.
+    d = _design()
+    s = analyse(build_chain(d.feed), F, Z_FEED, z_ref=50.0, power_w=100.0)
+    st = s.stress["cap"]
+    x = 1.0 / (2 * np.pi * F * 200e-12)
+    esr = x / 500.0
+    np.testing.assert_allclose(st.v_peak, math.sqrt(2) * st.i_rms * np.hypot(x, esr), rtol=1e-9)
+    np.testing.assert_allclose(st.p_diss_w, st.i_rms ** 2 * esr, rtol=1e-9)
+
+
+def test_worst_case_scales_with_power_and_margins_follow_ratings():
+    # Linear network: V, I scale with sqrt(P), dissipation with P (Pozar sec. 2.6).
+    # The worst case must equal a fresh power flow at 1500 W (1e-9).
+    d = _design()
+    chain = build_chain(d.feed)
+    s100 = analyse(chain, F, Z_FEED, power_w=100.0)
+    s1500 = analyse(chain, F, Z_FEED, power_w=1500.0)
+    rows = {r.id: r for r in stress_rows(s100, {"cap": {"voltage_rating": 500.0,
+                                                       "current_rating": 10.0}}, 1500.0)}
+    cap = rows["cap"]
+    assert cap.v_peak_worst == pytest.approx(s1500.stress["cap"].v_peak.max(), rel=1e-9)
+    assert cap.p_diss_worst_w == pytest.approx(s1500.stress["cap"].p_diss_w.max(), rel=1e-9)
+    assert cap.margin["voltage_rating"] == pytest.approx(500.0 / cap.v_peak_worst)
+    assert ("voltage rating exceeded at 1500 W" in cap.notes) == (cap.v_peak_worst > 500.0)
+    assert "no power rating given" in cap.notes
+    assert "no voltage rating given" in rows["ladder"].notes
+    v, i, p = scale_to_power(10.0, 1.0, 4.0, 100.0, 400.0)
+    assert (v, i, p) == (20.0, 2.0, 16.0)
+
+
+def test_exposure_distance_against_a_hand_calculation():
+    # 47 CFR 1.1310 Table 1, uncontrolled, 1.34-30 MHz: 180/f^2 mW/cm^2.  At
+    # 14.0 MHz: 0.91837 mW/cm^2 = 9.1837 W/m^2.  With 100 W, 2.15 dBi (1.6406)
+    # and the ground-reflection factor 2.56 (from memory of FCC OET Bulletin 65):
+    # R = sqrt(2.56 * 100 * 1.6406 / (4 pi * 9.1837)) = sqrt(419.99 / 115.41)
+    # = 1.908 m.  The hand figure is rounded to 4 digits: 1e-3.
+    assert uncontrolled_limit_w_m2(14.0e6) == pytest.approx(9.1837, rel=1e-4)
+    assert compliance_distance_m(100.0, 2.15, 14.0e6) == pytest.approx(1.908, rel=1e-3)
+    # The table's other rows: 100 mW/cm^2 below 1.34 MHz, 0.2 above 30 MHz.
+    np.testing.assert_allclose(uncontrolled_limit_w_m2([1.0e6, 50e6]), [1000.0, 2.0])
+
+
+def test_system_gain_is_antenna_gain_less_total_loss():
+    assert system_gain_dbi([6.0, 2.0], [1.5, 0.5]).tolist() == [4.5, 1.5]
+
+
+def test_alternatives_keep_power_bookkeeping():
+    # Each alternative's budget adds up (design.md: mismatch + elements = total)
+    # and the matching unit at the radio brings SWR to 1 where it can match.
+    d = _design(tuner={"max_swr": 100}, alternatives=[{"name": "coax only", "tuner": "radio",
+                               "feed": [{"id": "run", "line": "rg-213", "length": "30 m"}]}])
+    alts = standard_alternatives(d, F, Z_FEED)
+    assert [a.name for a in alts] == ["as designed", "without series parts",
+                                      "matching unit at the radio",
+                                      "matching unit at the feedpoint", "coax only"]
+    for a in alts:
+        s = a.system
+        parts = sum(v for k, v in s.loss_db.items() if k != "total")
+        np.testing.assert_allclose(parts, s.loss_db["total"], rtol=1e-9, atol=1e-12)
+        np.testing.assert_allclose(s.p_mismatch_w + sum(s.p_dissipated_w.values())
+                                   + s.p_delivered_w, 100.0, rtol=1e-9)
+    radio = alts[2]
+    ok = radio.tuner.can_match
+    assert ok.any()
+    np.testing.assert_allclose(radio.system.swr[ok], 1.0, atol=1e-6)
+    assert "cap" not in alts[1].system.element_ids
+
+
+def test_remote_chain_replaces_balanced_line_and_drops_parts():
+    chain = remote_chain(build_chain(_design().feed))
+    assert [e.id for e in chain.elements] == ["ladder", "coax"]
+    assert chain.elements[0].line_type.name == chain.elements[1].line_type.name
