@@ -52,7 +52,25 @@ def _e(x) -> str:
 def _num(x, fmt: str = ".2f", none: str = "-") -> str:
     if x is None:
         return none
-    return format(x, fmt)
+    out = format(x, fmt)
+    if out.startswith("-") and float(out.rstrip("%")) == 0:   # no "-0.00"
+        out = out[1:]
+    return out
+
+
+def _stress_cautions(report: dict) -> list[str]:
+    """Ratings exceeded at either power, and parts with a rating missing."""
+    out, missing = [], []
+    for r in report["stress"]:
+        for note in r["notes"]:
+            if "exceeded" in note:
+                out.append(f"{r['id']}: {note}")
+            elif r["kind"] in ("series", "shunt", "transformer"):
+                missing.append(f"{r['id']} ({note.replace('no ', '').replace(' given', '')})")
+    if missing:
+        out.append("no rating given for " + ", ".join(missing) + ": the stress table shows "
+                   "what the parts must withstand")
+    return out
 
 
 def _img(fig, alt: str) -> str:
@@ -208,7 +226,8 @@ def render_html(results: dict, report: dict, manifest: dict) -> str:
     """The report page as text."""
     name = _e(results["design"])
     cautions = "".join(f"<li>{_e(c)}</li>" for c in GENERAL_CAUTIONS)
-    found = "".join(f"<li>{_e(c)}</li>" for c in results.get("cautions", []))
+    found = "".join(f"<li>{_e(c)}</li>" for c in
+                    list(results.get("cautions", [])) + _stress_cautions(report))
     findings = "".join(f"<li>{_e(f.get('severity', ''))}: {_e(f.get('rule', ''))}: "
                        f"{_e(f.get('message', ''))}</li>" for f in results.get("findings", []))
     return f"""<!DOCTYPE html>
