@@ -45,7 +45,7 @@ class Alternative:
     tuner: MatchingUnit | None = None
 
 
-def _with_tuner(chain: FeedChain, f, z_feed, z_ref, power, spec, at: str):
+def _with_tuner(chain: FeedChain, f, z_feed, z_ref, spec, at: str):
     """The chain with a matching unit tuned at the radio end or the feedpoint."""
     if at == "radio":
         load = chain.input_impedance(f, z_feed)
@@ -95,9 +95,9 @@ def standard_alternatives(design, f, z_feed) -> list[Alternative]:
 
     series = [e.id for e in chain.elements if e.kind == "series"]
     bare = FeedChain(tuple(e for e in chain.elements if e.kind != "series"))
-    radio_chain, radio_unit = _with_tuner(chain, f, z_feed, z_ref, power, spec, "radio")
+    radio_chain, radio_unit = _with_tuner(chain, f, z_feed, z_ref, spec, "radio")
     remote = remote_chain(chain)
-    feed_chain, feed_unit = _with_tuner(remote, f, z_feed, z_ref, power, spec, "feedpoint")
+    feed_chain, feed_unit = _with_tuner(remote, f, z_feed, z_ref, spec, "feedpoint")
     out = [
         Alternative("as designed", "the feed system of the design file", run(chain)),
         Alternative("without series parts",
@@ -113,7 +113,7 @@ def standard_alternatives(design, f, z_feed) -> list[Alternative]:
         c = build_chain(alt.feed, r_radio=z_ref)
         unit = None
         if alt.tuner != "none":
-            c, unit = _with_tuner(c, f, z_feed, z_ref, power, spec, alt.tuner)
+            c, unit = _with_tuner(c, f, z_feed, z_ref, spec, alt.tuner)
         out.append(Alternative(alt.name, "from the design file", run(c), unit))
     return out
 

@@ -138,7 +138,7 @@ def _alternative_record(alt: Alternative, evaluation, n_points: int, gains: dict
             "swr": s.swr[:n_points]}
 
 
-def _optimised(study_dir: Path, evaluation, f_all, z_all_fn):
+def _optimised(study_dir: Path, evaluation, f_all):
     """The optimised alternative from a study folder, or None."""
     from necflow.config.load import load_design
 
@@ -195,7 +195,7 @@ def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
     optimised_from = None
     if study_dir is not None:
         try:
-            opt, best = _optimised(Path(study_dir), evaluation, f_all, None)
+            opt, best = _optimised(Path(study_dir), evaluation, f_all)
         except NecflowError as exc:
             warnings.warn(f"the study's best design cannot be shown: {exc}", NecflowWarning,
                           stacklevel=2)

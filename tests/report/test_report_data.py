@@ -1,0 +1,53 @@
+"""Report data without the engine: stand-in far fields, the average gain
+warning, system gain per band and the JSON round trip."""
+
+from __future__ import annotations
+
+import math
+import warnings
+
+import numpy as np
+import pytest
+
+from necflow.config.load import load_design
+from necflow.engine.far_field import FarField
+from necflow.errors import NecflowWarning
+from necflow.pipeline import evaluate
+from necflow.report.report_data import build_report_data, read_report_data, write_report_data
+from tests.conftest import CONFIGS, dipole_like_solver
+
+
+def flat_far_field(model, f, angles):
+    """An invented pattern of 5 dBi everywhere (stands in for the engine)."""
+    el = np.radians(np.arange(0, 181.0))
+    az = np.radians(np.arange(0, 360.0, 2))
+    return [FarField(float(fi), math.pi / 2, el, np.full(el.size, 5.0), math.pi / 2,
+                     np.full(el.size, 5.0), 5.0, math.radians(30), math.radians(30), az,
+                     np.full(az.size, 5.0), np.asarray(angles), np.full(len(angles), 5.0), 0.8)
+            for fi in f]
+
+
+@pytest.fixture(scope="module")
+def evaluation():
+    return evaluate(load_design(CONFIGS / "demo.yaml"), solver=dipole_like_solver)
+
+
+def test_system_gain_is_gain_less_loss_at_band_centre(evaluation, tmp_path):
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", NecflowWarning)
+        doc = build_report_data(evaluation, far_field_fn=flat_far_field,
+                                agt_fn=lambda m, f: np.full(len(f), 2.01))
+    for alt in doc["alternatives"]:
+        for b in alt["bands"]:
+            np.testing.assert_allclose(b["system_gain_dbi"], 5.0 - b["loss_db"]["total"],
+                                       rtol=1e-12)
+    write_report_data(doc, tmp_path)
+    assert read_report_data(tmp_path) == doc
+
+
+def test_average_gain_off_by_more_than_a_few_percent_warns(evaluation):
+    # Common practice: 2.0 over ground within a few percent; 1.8 is 10 % off.
+    with pytest.warns(NecflowWarning, match="average gain test"):
+        doc = build_report_data(evaluation, far_field_fn=flat_far_field,
+                                agt_fn=lambda m, f: np.full(len(f), 1.8))
+    assert not any(r["average_gain_ok"] for r in doc["far_field"])
