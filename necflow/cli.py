@@ -88,6 +88,8 @@ def _parser() -> argparse.ArgumentParser:
     b.add_argument("--storage", metavar="URL", help="shared storage for optimised cells")
     b.add_argument("--out", metavar="DIR", help="batch folder (default runs/<batch>-batch)")
     b.set_defaults(func=cmd_batch)
+    from necflow.calibrate.command import add_parsers as _calibration_parsers
+    _calibration_parsers(sub)   # fit, trim, tolerance
     return p
 
 

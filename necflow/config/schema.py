@@ -20,6 +20,7 @@ from pydantic import (BaseModel, BeforeValidator, ConfigDict, Discriminator,
                       Field, Tag, field_validator, model_validator)
 
 from necflow import units
+from necflow.calibrate.spec import ToleranceSpec
 from necflow.optimize.spec import CostSpec, SearchParam
 
 # ----------------------------------------------------------------------------
@@ -603,6 +604,19 @@ class Design(Strict):
         "used by 'necflow optimize', ignored by 'evaluate'")
     cost: CostSpec = Field(default_factory=CostSpec, description="How 'necflow optimize' "
                            "scores a design")
+    uncertain: dict[str, SearchParam] = Field(
+        default_factory=dict, description="Fields 'necflow fit' may adjust to match measured "
+        "sweeps: field path (antenna.height, ground.conductivity, feed.<id>.velocity_factor, "
+        "feed.<id>.value...) -> range; ignored by 'evaluate'")
+    adjustable: dict[str, SearchParam] = Field(
+        default_factory=dict, description="Fields 'necflow trim' may change: field path -> "
+        "range (or choices); ignored by 'evaluate'")
+    targets: dict[str, str] = Field(
+        default_factory=dict, description="Band name -> where 'necflow trim' should put the "
+        "lowest SWR: a frequency ('7.1 MHz') or 'centre' (the band's centre)",
+        json_schema_extra={"unit": "MHz or centre"})
+    tolerances: ToleranceSpec = Field(default_factory=ToleranceSpec,
+                                      description="How 'necflow tolerance' varies the design")
     report: ReportSpec = Field(default_factory=ReportSpec, description="What the decision "
                                "report shows")
 

@@ -1,0 +1,202 @@
+"""The ``fit``, ``trim`` and ``tolerance`` sub-commands: parse, call, print."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from necflow import units
+from necflow.errors import ConfigError, NecflowError
+
+
+def add_parsers(sub) -> None:
+    """Add the three sub-commands to the CLI's sub-parsers."""
+    f = sub.add_parser("fit", help="fit uncertain fields of a design to measured sweeps "
+                       "and write the calibrated design")
+    f.add_argument("design", help="design file (YAML)")
+    f.add_argument("measured", nargs="+", help="sweeps: Touchstone one-port (.s1p) or CSV")
+    f.add_argument("--at", choices=("radio", "feedpoint"), default="radio",
+                   help="where the sweeps were taken (default radio: through the feed chain)")
+    f.add_argument("--vary", action="append", default=[], metavar="PATH=LOW,HIGH",
+                   help="a field to fit and its range, e.g. 'antenna.height=9 m,13 m' "
+                   "(adds to or replaces the design's 'uncertain' section)")
+    f.add_argument("--frequency-unit", metavar="UNIT", help="Hz, kHz, MHz or GHz for CSV "
+                   "files whose header names none")
+    f.add_argument("--reference", metavar="OHMS", help="reference resistance of CSV sweeps "
+                   "(default: the radio's impedance)")
+    f.add_argument("--starts", type=int, default=4, metavar="N", help="starting points (default 4)")
+    f.add_argument("--seed", type=int, default=0, metavar="N", help="seed of the starts")
+    f.add_argument("--out", metavar="DIR", help="output folder (default runs/<name>-fit)")
+    f.set_defaults(func=run_fit)
+
+    t = sub.add_parser("trim", help="advise cuts and part changes that put the lowest SWR "
+                       "of selected bands at their targets")
+    t.add_argument("design", help="design file (YAML), e.g. a calibrated one")
+    t.add_argument("--target", action="append", default=[], metavar="BAND=FREQ|centre",
+                   help="e.g. '40m=7.1 MHz' or '80m=centre' (adds to the design's 'targets')")
+    t.add_argument("--adjust", action="append", default=[], metavar="PATH=LOW,HIGH",
+                   help="a field trim may change and its range (replaces the design's "
+                   "'adjustable' section)")
+    t.add_argument("--seed", type=int, default=0, metavar="N", help="seed of extra starts")
+    t.add_argument("--write", metavar="FILE", help="write the trimmed design here")
+    t.set_defaults(func=run_trim)
+
+    m = sub.add_parser("tolerance", help="Monte Carlo over the design's stated tolerances: "
+                       "per-band yield and loss spread")
+    m.add_argument("design", help="design file (YAML) with a 'tolerances' section")
+    m.add_argument("--samples", type=int, metavar="N", help="cases (default tolerances.samples)")
+    m.add_argument("--seed", type=int, metavar="N", help="seed (default tolerances.seed)")
+    m.add_argument("--plot", metavar="PNG", help="write the SWR-spread plot here")
+    m.add_argument("--json", action="store_true", help="print the band table as JSON")
+    m.set_defaults(func=run_tolerance)
+
+
+def _ranges(options: list[str]) -> dict:
+    from necflow.calibrate.params import parse_range_option
+    return dict(parse_range_option(o) for o in options)
+
+
+def _fmt(p, v) -> str:
+    return p.text(v) if p.dimension else f"{v:.6g}"
+
+
+def run_fit(args) -> int:
+    from necflow.calibrate.fit import fit_design
+    from necflow.calibrate.params import build_params
+    from necflow.calibrate.response import Responder
+    from necflow.catalog.bands import resolve_bands
+    from necflow.config.load import load_design
+    from necflow.config.resolve import resolved_yaml
+    from necflow.measure import check_overlap, read_measurement
+    from necflow.measure.overlay import compare, overlay_figure
+
+    design = load_design(args.design)
+    z_ref = design.radio.impedance
+    if args.reference:
+        try:
+            z_ref = units.parse(args.reference if not args.reference.replace(".", "").isdigit()
+                                else f"{args.reference} ohm", "resistance")
+        except units.UnitError as exc:
+            raise ConfigError(str(exc), field="--reference") from None
+    sweeps = [read_measurement(p, at=args.at, frequency_unit=args.frequency_unit, z_ref=z_ref)
+              for p in args.measured]
+    bands = resolve_bands(design)
+    for s in sweeps:
+        check_overlap(s, bands)
+    section = {**design.uncertain, **_ranges(args.vary)}
+    params = build_params(design, section, key="uncertain", file=args.design)
+    responder = Responder(design, sweeps)
+    result = fit_design(design, sweeps, params, starts=args.starts, seed=args.seed,
+                        responder=responder)
+    before, model = compare(design, sweeps, responder)
+    after, calibrated = compare(result.design, sweeps, responder)
+    out = Path(args.out) if args.out else Path("runs") / f"{design.name}-fit"
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise NecflowError(f"cannot create output folder {out}: {exc.strerror}") from None
+    (out / "design.calibrated.yaml").write_text(resolved_yaml(result.design), encoding="utf-8")
+    overlay_figure(sweeps, model, calibrated_mags=calibrated,
+                   title=f"{design.name}: model and measurement").savefig(out / "overlay.png",
+                                                                           dpi=110)
+    print(f"{design.name}: fitted {len(params)} field(s) to {len(sweeps)} sweep(s) "
+          f"({'complex reflection' if result.complex_data else 'SWR magnitude only'}), "
+          f"{result.solves} antenna solves")
+    print(f"{'field':32s} {'before':>14s} {'fitted':>14s} {'+-1 sigma':>14s}")
+    for p in params:
+        s = result.sigma[p.path]
+        sig = _fmt(p, s) if s == s and s != float("inf") else "undetermined"
+        flag = "  (at range end)" if result.at_bound[p.path] else ""
+        print(f"{p.path:32s} {_fmt(p, result.start[p.path]):>14s} "
+              f"{_fmt(p, result.values[p.path]):>14s} {sig:>14s}{flag}")
+    print(f"residual (rms, reflection): {result.rms_before:.4f} before, "
+          f"{result.rms_after:.4f} after")
+    print("lowest SWR per band (MHz): measured / model before / model after, shift before")
+    for b, a in zip(before, after):
+        print(f"  {b.band:5s} {b.source}: {b.measured_f_min_hz / 1e6:.4f} / "
+              f"{b.model_f_min_hz / 1e6:.4f} / {a.model_f_min_hz / 1e6:.4f}, "
+              f"shift {b.shift_hz / 1e3:+.1f} kHz")
+    for n in result.notes:
+        print(f"note: {n}")
+    print(f"calibrated design: {out / 'design.calibrated.yaml'}")
+    print(f"overlay plot: {out / 'overlay.png'}")
+    return 0
+
+
+def _band_line(b) -> str:
+    return (f"  {b.band:5s} SWR min {b.swr_min:6.2f} at {b.frequency_swr_min_hz / 1e6:8.4f} MHz, "
+            f"edges {b.swr_low_edge:6.2f} / {b.swr_high_edge:6.2f}, within limit "
+            f"{100 * b.fraction_within_limit:3.0f} %")
+
+
+def run_trim(args) -> int:
+    from necflow.calibrate.trim import trim_design
+    from necflow.config.load import load_design
+    from necflow.config.resolve import resolved_yaml
+
+    design = load_design(args.design)
+    targets = dict(design.targets)
+    for t in args.target:
+        if "=" not in t:
+            raise ConfigError(f"'{t}' is not BAND=FREQ or BAND=centre", field="--target")
+        k, v = t.split("=", 1)
+        targets[k.strip()] = v.strip()
+    adjust = _ranges(args.adjust) if args.adjust else None
+    r = trim_design(design, targets, adjust, seed=args.seed)
+    print(f"{design.name}: targets " + ", ".join(
+        f"{t.band.name} {t.frequency_hz / 1e6:.4g} MHz" + (" (centre)" if t.how == "centre"
+                                                           else "") for t in r.targets))
+    print("before:")
+    for b in r.before:
+        print(_band_line(b))
+    if not r.steps:
+        print("no change needed: every target is already met")
+    for i, s in enumerate(r.steps, start=1):
+        print(f"step {i}: {s.text}")
+        for b in s.bands:
+            print(_band_line(b))
+    for t in r.targets:
+        name = t.band.name
+        f = r.reached[name]
+        if name in r.unreachable:
+            print(f"cannot reach {name}: {r.unreachable[name]}")
+        else:
+            print(f"{name}: lowest SWR at {f / 1e6:.4f} MHz, "
+                  f"{100 * (f / t.frequency_hz - 1):+.2f} % from the target")
+    for w in r.warnings:
+        print(f"warning: {w}")
+    if args.write:
+        Path(args.write).write_text(resolved_yaml(r.design), encoding="utf-8")
+        print(f"trimmed design: {args.write}")
+    return 0
+
+
+def run_tolerance(args) -> int:
+    from necflow.calibrate.tolerance import monte_carlo, tolerance_figure
+    from necflow.config.load import load_design
+
+    design = load_design(args.design)
+    if args.samples is not None and args.samples < 1:
+        raise ConfigError("give at least one case", field="--samples")
+    r = monte_carlo(design, samples=args.samples, seed=args.seed)
+    rows = r.band_table()
+    if args.json:
+        print(json.dumps({"seed": r.seed, "cases": int(r.swr.shape[0]),
+                          "geometry_states": r.states, "bands": rows}, indent=1))
+    else:
+        print(f"{design.name}: {r.swr.shape[0]} cases, seed {r.seed}, {r.states} geometry "
+              f"states solved, SWR limit {r.swr_limit:g}")
+        print(f"{'band':6s} {'yield':>6s} {'within':>7s} {'loss p5':>8s} {'p50':>6s} "
+              f"{'p95 dB':>7s} {'SWRmax p95':>11s}")
+        for x in rows:
+            print(f"{x['band']:6s} {100 * x['yield']:5.0f}% {100 * x['within_mean']:6.0f}% "
+                  f"{x['loss_p5']:8.2f} {x['loss_p50']:6.2f} {x['loss_p95']:7.2f} "
+                  f"{x['swr_max_p95']:11.2f}")
+        print("yield: share of cases within the SWR limit across the whole band; within: "
+              "mean share of the band's points within it")
+    if args.plot:
+        tolerance_figure(r, title=f"{design.name}: tolerance, {r.swr.shape[0]} cases, "
+                         f"seed {r.seed}").savefig(args.plot, dpi=110)
+        if not args.json:
+            print(f"plot: {args.plot}")
+    return 0

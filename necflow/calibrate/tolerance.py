@@ -1,0 +1,267 @@
+"""Tolerance: seeded Monte Carlo over the stated tolerances of a design.
+
+Each case draws every toleranced feed field uniformly within its +- range
+(a percentage of the nominal value, or an amount in the field's unit) and
+one of a small set of geometry states: each toleranced antenna field, and
+the ground between its dry- and wet-season surfaces (permittivity linear,
+conductivity logarithmic), takes ``levels`` values at the centres of
+equal-probability bins of its range; the combinations (a seeded subset
+beyond ``max_states``) are solved once each and shared by every case that
+draws them, while the feed variants cost no solve.
+"""
+
+from __future__ import annotations
+
+import itertools
+from dataclasses import dataclass
+
+import numpy as np
+
+from necflow import units
+from necflow.catalog.bands import resolve_bands
+from necflow.config.schema import Design
+from necflow.errors import ConfigError
+from necflow.optimize.space import _dimension, locate
+from necflow.pipeline import band_points
+from necflow.calibrate.params import ground_explicit, set_values
+from necflow.calibrate.response import Responder
+
+
+@dataclass(frozen=True)
+class Tolerance:
+    """One toleranced field: nominal value and half-width [SI]."""
+
+    path: str
+    nominal: float
+    half_width: float
+    geometry: bool
+
+
+def parse_tolerances(design: Design) -> list[Tolerance]:
+    """The design's ``tolerances.fields`` in SI.
+
+    Raises
+    ------
+    ConfigError
+        Unknown path, a tolerance without a readable unit, or one that would
+        make the field non-positive.
+    """
+    out = []
+    base = ground_explicit(design)
+    for path, text in design.tolerances.fields.items():
+        where = f"tolerances.fields.{path}"
+        try:
+            owner, name = locate(base, path)
+        except ValueError as exc:
+            raise ConfigError(str(exc), field=where) from None
+        nominal = getattr(owner, name)
+        if not isinstance(nominal, (int, float)) or isinstance(nominal, bool):
+            raise ConfigError("not a numeric field; a tolerance needs a number", field=where)
+        dim = _dimension(owner, name)
+        t = str(text).strip()
+        if t.endswith("%"):
+            try:
+                half = abs(float(t[:-1])) / 100.0 * abs(nominal)
+            except ValueError:
+                raise ConfigError(f"cannot read '{text}' as a percentage", field=where) from None
+        elif dim:
+            try:
+                half = abs(units.parse(t, dim))
+            except units.UnitError as exc:
+                raise ConfigError(f"{exc}, or a percentage such as '5 %'", field=where) from None
+        else:
+            try:
+                half = abs(float(t))
+            except ValueError:
+                raise ConfigError(f"cannot read '{text}'; expected a number or a percentage",
+                                  field=where) from None
+        if nominal - half <= 0 and dim is not None:
+            raise ConfigError(f"the tolerance reaches zero or below (nominal {nominal:g})",
+                              field=where)
+        out.append(Tolerance(path, float(nominal), half, path.split(".")[0] != "feed"))
+    return out
+
+
+def ground_states(design: Design, levels: int) -> list[dict] | None:
+    """Ground constants between the dry- and wet-season surfaces, or None."""
+    from necflow.catalog.grounds import SURFACES
+
+    names = design.tolerances.ground
+    if names is None:
+        return None
+    if design.ground.model not in ("reflection", "sommerfeld"):
+        raise ConfigError(f"a '{design.ground.model}' ground has no season to vary",
+                          field="tolerances.ground")
+    for n in names:
+        if n not in SURFACES:
+            raise ConfigError(f"unknown surface '{n}'; expected one of {', '.join(SURFACES)}",
+                              field="tolerances.ground")
+    dry, wet = SURFACES[names[0]], SURFACES[names[1]]
+    out = []
+    for t in (np.arange(levels) + 0.5) / levels:
+        out.append({"ground.permittivity": dry.permittivity + t * (wet.permittivity
+                                                                   - dry.permittivity),
+                    "ground.conductivity": float(np.exp(np.log(dry.conductivity) + t * (
+                        np.log(wet.conductivity) - np.log(dry.conductivity))))})
+    return out
+
+
+def scenarios(design: Design, tolerances: list[Tolerance] | None = None, *,
+              samples: int | None = None, seed: int | None = None) -> list[dict]:
+    """The cases: one dict of field values [SI] per case, seeded.
+
+    Cases sharing a geometry state have identical antenna and ground values,
+    so their antenna response is solved once.
+    """
+    spec = design.tolerances
+    tols = parse_tolerances(design) if tolerances is None else tolerances
+    n = spec.samples if samples is None else samples
+    rng = np.random.default_rng(spec.seed if seed is None else seed)
+    k = spec.levels
+    centres = -1.0 + (2.0 * np.arange(k) + 1.0) / k
+    axes = [[{t.path: t.nominal + c * t.half_width} for c in centres]
+            for t in tols if t.geometry]
+    g = ground_states(design, k)
+    if g is not None:
+        axes.append(g)
+    states = [dict(itertools.chain.from_iterable(d.items() for d in combo))
+              for combo in itertools.product(*axes)] if axes else [{}]
+    if len(states) > spec.max_states:
+        pick = rng.choice(len(states), spec.max_states, replace=False)
+        states = [states[i] for i in sorted(pick)]
+    feed = [t for t in tols if not t.geometry]
+    which = rng.integers(0, len(states), n)
+    draws = rng.uniform(-1.0, 1.0, (n, len(feed)))
+    return [{**states[which[i]], **{t.path: t.nominal + draws[i, j] * t.half_width
+                                    for j, t in enumerate(feed)}} for i in range(n)]
+
+
+@dataclass(frozen=True)
+class ToleranceResult:
+    """Monte Carlo outcome.
+
+    Attributes
+    ----------
+    bands : list of Band
+    frequency_hz, band_index : ndarray
+        The evaluated points.
+    swr : ndarray, shape (cases, points)
+        SWR at the radio of every case.
+    loss_db : ndarray, shape (cases, points)
+        Total system loss [dB].
+    nominal_swr : ndarray, shape (points,)
+    swr_limit : float
+    states : int
+        Geometry states solved.
+    seed : int
+    """
+
+    bands: list
+    frequency_hz: np.ndarray
+    band_index: np.ndarray
+    swr: np.ndarray
+    loss_db: np.ndarray
+    nominal_swr: np.ndarray
+    swr_limit: float
+    states: int
+    seed: int
+
+    def band_table(self) -> list[dict]:
+        """Per band: share of cases within the limit over the whole band, mean
+        share of the band within it, and loss percentiles (5, 50, 95) [dB]."""
+        out = []
+        for i, b in enumerate(self.bands):
+            sel = self.band_index == i
+            s, l = self.swr[:, sel], self.loss_db[:, sel].mean(axis=1)
+            out.append({"band": b.name,
+                        "yield": float(np.mean(np.all(s <= self.swr_limit, axis=1))),
+                        "within_mean": float(np.mean(s <= self.swr_limit)),
+                        "loss_p5": float(np.percentile(l, 5)),
+                        "loss_p50": float(np.percentile(l, 50)),
+                        "loss_p95": float(np.percentile(l, 95)),
+                        "swr_max_p95": float(np.percentile(s.max(axis=1), 95))})
+        return out
+
+
+def monte_carlo(design: Design, *, samples: int | None = None, seed: int | None = None,
+                responder: Responder | None = None) -> ToleranceResult:
+    """Run the tolerance Monte Carlo of a design (see the module notes)."""
+    from necflow.analysis import analyse
+    from necflow.feed import build_chain
+
+    tols = parse_tolerances(design)
+    if not tols and design.tolerances.ground is None:
+        raise ConfigError("no tolerances: give 'tolerances.fields' (e.g. "
+                          "{feed.cap.value: 10 %, antenna.height: 50 cm}) or "
+                          "'tolerances.ground'", field="tolerances")
+    seed = design.tolerances.seed if seed is None else seed
+    cases = scenarios(design, tols, samples=samples, seed=seed)
+    bands = resolve_bands(design)
+    f, index = band_points(bands)
+    responder = responder or Responder(design)
+    swr = np.empty((len(cases), f.size))
+    loss = np.empty_like(swr)
+    for i, values in enumerate(cases):
+        variant = set_values(design, values)
+        z = responder.z_feedpoint(variant, f)
+        chain = build_chain(variant.feed, r_radio=variant.radio.impedance)
+        sysr = analyse(chain, f, z, z_ref=variant.radio.impedance, power_w=variant.radio.power)
+        swr[i] = sysr.swr
+        loss[i] = sysr.loss_db["total"]
+    z0 = responder.z_feedpoint(design, f)
+    nominal = analyse(build_chain(design.feed, r_radio=design.radio.impedance), f, z0,
+                      z_ref=design.radio.impedance, power_w=design.radio.power).swr
+    return ToleranceResult(bands=bands, frequency_hz=f, band_index=index, swr=swr,
+                           loss_db=loss, nominal_swr=np.asarray(nominal),
+                           swr_limit=design.goal.swr_limit, states=responder.solves - 1,
+                           seed=seed)
+
+
+def tolerance_figure(result: ToleranceResult, title: str = ""):
+    """SWR spread per band (5-95 % of cases shaded, median, nominal, limit)."""
+    import matplotlib
+    matplotlib.use("Agg", force=False)
+    from matplotlib.figure import Figure
+
+    n = len(result.bands)
+    cols = min(n, 3)
+    rows = int(np.ceil(n / cols))
+    fig = Figure(figsize=(4.2 * cols, 3.0 * rows), layout="constrained")
+    top = 3.0 * result.swr_limit
+    for i, b in enumerate(result.bands):
+        ax = fig.add_subplot(rows, cols, i + 1)
+        sel = result.band_index == i
+        fm = result.frequency_hz[sel] / 1e6
+        s = np.minimum(result.swr[:, sel], top)
+        ax.fill_between(fm, np.percentile(s, 5, axis=0), np.percentile(s, 95, axis=0),
+                        alpha=0.3, label="5-95 % of cases")
+        ax.plot(fm, np.median(s, axis=0), lw=1.5, label="median")
+        ax.plot(fm, np.minimum(result.nominal_swr[sel], top), "k--", lw=1, label="nominal")
+        ax.axhline(result.swr_limit, color="tab:red", lw=1)
+        ax.set_ylim(1.0, top)
+        ax.set_title(f"{b.name}", fontsize=10)
+        ax.set_xlabel("frequency [MHz]")
+        ax.set_ylabel("SWR at the radio")
+        ax.grid(alpha=0.3)
+        if i == 0:
+            ax.legend(fontsize=7)
+    fig.suptitle(title or f"tolerance: {result.swr.shape[0]} cases, seed {result.seed}",
+                 fontsize=11)
+    return fig
+
+
+def robust_cost(design: Design, cases: list[dict], cache, how: str = "expected") -> float:
+    """Cost of a design over a scenario set: the mean ("expected") or the
+    largest ("worst") of the optimiser's cost over the cases.
+
+    The seam for robust design in the optimiser: a study scores each trial's
+    design with this instead of :func:`necflow.optimize.cost.score`.  The
+    cases come from :func:`scenarios`; cases sharing a geometry state reuse
+    one solve through ``cache`` (a :class:`necflow.optimize.evaluator.ResponseCache`).
+    """
+    from necflow.optimize.evaluator import score_design
+
+    if how not in ("expected", "worst"):
+        raise ValueError("how is 'expected' or 'worst'")
+    costs = np.array([score_design(set_values(design, c), cache)[1].cost for c in cases])
+    return float(costs.mean() if how == "expected" else costs.max())

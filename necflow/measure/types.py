@@ -1,0 +1,109 @@
+"""Measured sweeps as necflow holds them: frequency, reflection, where taken.
+
+A :class:`Measurement` keeps the complex reflection coefficient when the
+file gives it (Touchstone, R and X, |Gamma| with phase) and only its
+magnitude when the file gives SWR or return loss.  Frequencies are in Hz,
+impedances in ohm.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+LOCATIONS = ("radio", "feedpoint")
+
+
+def gamma_from_z(z, z_ref: float = 50.0) -> np.ndarray:
+    """Reflection coefficient of an impedance against a real reference.
+
+    Parameters
+    ----------
+    z : array_like of complex
+        Impedance [ohm].
+    z_ref : float
+        Reference resistance [ohm].
+
+    Returns
+    -------
+    ndarray of complex
+        ``(z - z_ref) / (z + z_ref)`` [1].
+
+    References
+    ----------
+    .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, ch. 2
+       (reflection coefficient of a load on a line).
+    """
+    z = np.asarray(z, dtype=complex)
+    return (z - z_ref) / (z + z_ref)
+
+
+def z_from_gamma(gamma, z_ref: float = 50.0) -> np.ndarray:
+    """Impedance [ohm] of a reflection coefficient against a real reference,
+    ``z_ref (1 + gamma) / (1 - gamma)`` (Pozar, ch. 2, inverted)."""
+    g = np.asarray(gamma, dtype=complex)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return z_ref * (1.0 + g) / (1.0 - g)
+
+
+def swr_from_mag(mag) -> np.ndarray:
+    """SWR from |Gamma|, ``(1 + |G|) / (1 - |G|)`` (Pozar, ch. 2); inf at |G| >= 1."""
+    m = np.asarray(mag, dtype=float)
+    with np.errstate(divide="ignore"):
+        return np.where(m < 1.0, (1.0 + m) / np.maximum(1.0 - m, 1e-300), np.inf)
+
+
+def mag_from_swr(swr) -> np.ndarray:
+    """|Gamma| from SWR, ``(s - 1) / (s + 1)`` (Pozar, ch. 2)."""
+    s = np.asarray(swr, dtype=float)
+    return (s - 1.0) / (s + 1.0)
+
+
+@dataclass(frozen=True)
+class Measurement:
+    """One measured sweep.
+
+    Attributes
+    ----------
+    frequency_hz : ndarray, shape (n,)
+        Strictly increasing frequencies [Hz].
+    gamma : ndarray of complex, shape (n,), or None
+        Complex reflection coefficient against ``z_ref``; None when the file
+        gives only a magnitude (SWR, return loss).
+    gamma_mag : ndarray, shape (n,)
+        |Gamma| [1] (always present).
+    z_ref : float
+        Reference resistance of ``gamma`` [ohm].
+    at : {"radio", "feedpoint"}
+        Where the sweep was taken: at the radio end of the feed chain, or at
+        the antenna's feed point.
+    source : str
+        File the sweep came from (for messages).
+    quantity : str
+        What the file gave: ``"S"``, ``"Z"``, ``"Y"`` (Touchstone),
+        ``"R+X"``, ``"SWR"``, ``"return loss"``, ``"|Gamma|+phase"``, ``"S11 dB"``.
+    """
+
+    frequency_hz: np.ndarray
+    gamma: np.ndarray | None
+    gamma_mag: np.ndarray
+    z_ref: float
+    at: str
+    source: str
+    quantity: str
+
+    @property
+    def complex(self) -> bool:
+        """True when the sweep carries phase (complex reflection)."""
+        return self.gamma is not None
+
+    @property
+    def swr(self) -> np.ndarray:
+        """SWR against ``z_ref`` [1]."""
+        return swr_from_mag(self.gamma_mag)
+
+    def with_location(self, at: str) -> "Measurement":
+        """The same sweep, said to be taken at ``at``."""
+        from dataclasses import replace
+        return replace(self, at=at)
