@@ -124,7 +124,7 @@ def fail_orphans(study) -> int:
         pid, thost = t.user_attrs.get("necflow.pid"), t.user_attrs.get("necflow.host")
         started = t.datetime_start.timestamp() if t.datetime_start else now
         dead = (pid is not None and thost == host and not _alive(int(pid))) or \
-            (pid is None and now - started > 60)
+            (pid is None and now - started > 30)
         if dead:
             try:
                 storage.set_trial_user_attr(t._trial_id, FAIL_REASON,
@@ -134,6 +134,33 @@ def fail_orphans(study) -> int:
             except Exception:  # another worker closed it first
                 pass
     return n
+
+
+def _ask_owned(study, host: str, pid: int):
+    """``study.ask()``, with this process recorded as the trial's owner in the
+    very record that creates the trial, so a kill at any moment leaves no
+    RUNNING trial without an owner to check (a queued trial is popped first
+    and marked right after)."""
+    import datetime
+
+    import optuna
+    from optuna.trial import FrozenTrial
+
+    S = _states()
+    if study.get_trials(deepcopy=False, states=(S.WAITING,)):
+        trial = study.ask()
+        study._storage.set_trial_user_attr(trial._trial_id, "necflow.host", host)
+        study._storage.set_trial_user_attr(trial._trial_id, "necflow.pid", pid)
+        return trial
+    template = FrozenTrial(
+        number=-1, state=S.RUNNING, value=None, datetime_start=datetime.datetime.now(),
+        datetime_complete=None, params={}, distributions={},
+        user_attrs={"necflow.host": host, "necflow.pid": pid}, system_attrs={},
+        intermediate_values={}, trial_id=-1)
+    trial_id = study._storage.create_new_trial(study._study_id, template_trial=template)
+    if hasattr(study, "_thread_local"):
+        study._thread_local.cached_all_trials = None   # as ask() does: read storage afresh
+    return optuna.trial.Trial(study, trial_id)
 
 
 def _running_before(study, number: int) -> int:
@@ -268,20 +295,18 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
     storage = study._storage
     beats = hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval()
     host, pid = socket.gethostname(), os.getpid()
-    fail_orphans(study)
     with _Signals() as sig, warnings.catch_warnings():
         # ask/tell is used on purpose; the heartbeat is recorded by this loop
         warnings.filterwarnings("ignore", message="Heartbeat of storage")
         while True:
             if sig.stop:
                 return f"stopped by {sig.stop}"
+            fail_orphans(study)
             if deadline is not None and time.time() >= deadline:
                 return "timeout reached"
             if options.trials is not None and len(counted_trials(study)) >= options.trials:
                 return "trial budget reached"
-            trial = study.ask()
-            storage.set_trial_user_attr(trial._trial_id, "necflow.host", host)
-            storage.set_trial_user_attr(trial._trial_id, "necflow.pid", pid)
+            trial = _ask_owned(study, host, pid)
             if options.trials is not None and \
                     len(counted_trials(study)) + _running_before(study, trial.number) \
                     >= options.trials:
