@@ -86,7 +86,16 @@ def parse_range_option(text: str) -> tuple[str, SearchParam]:
 def current_value(design: Design, path: str) -> Any:
     """The value of the field at ``path`` (SI), ground surfaces resolved."""
     owner, name = locate(ground_explicit(design), path)
-    return getattr(owner, name)
+    value = getattr(owner, name)
+    if value is None and name in ("velocity_factor", "impedance") and hasattr(owner, "line"):
+        from necflow.catalog.lines import LINE_TYPES
+        lt = LINE_TYPES.get(owner.line)
+        if lt is not None:     # a catalog line: its nominal value
+            value = lt.velocity_factor if name == "velocity_factor" else lt.z0
+    if value is None:
+        raise ConfigError(f"{path} has no value in this design to start from; give it one",
+                          field=path)
+    return value
 
 
 def to_unit(params: list[Param], values: dict[str, float]) -> np.ndarray:
