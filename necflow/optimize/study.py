@@ -26,7 +26,7 @@ import socket
 import threading
 import time
 import warnings
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Callable
 
@@ -48,7 +48,6 @@ class StudyOptions:
     workers: int = 1
     storage: str | None = None
     seed: int | None = None
-    log: Callable[[str], None] | None = field(default=None, repr=False)
 
 
 def parse_duration(text: str) -> float:
@@ -169,7 +168,7 @@ def _running_before(study, number: int) -> int:
                if t.number < number)
 
 
-def open_study(design, space, options: StudyOptions, *, create: bool = True):
+def open_study(design, space, options: StudyOptions):
     """Create or load the study and check it matches this design and space."""
     import optuna
 
@@ -346,7 +345,7 @@ def _child(design, space, options: StudyOptions, index: int, solver) -> None:
 
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     seed = None if options.seed is None else options.seed + index
-    opts = replace(options, seed=seed, log=None)
+    opts = replace(options, seed=seed)
     deadline = None if options.timeout_s is None else time.time() + options.timeout_s
     try:
         worker_loop(design, space, opts, solver=solver, deadline=deadline)
