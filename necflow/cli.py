@@ -158,33 +158,17 @@ def cmd_evaluate(args) -> int:
     from rich.console import Console
 
     from necflow.config.load import load_design
-    from necflow.config.resolve import config_sha256, resolved_yaml
     from necflow.pipeline import evaluate
-    from necflow.report import results, run_folder
-    from necflow.report.plots import save_swr_png
+    from necflow.report import run_folder
     from necflow.report.tables import band_table
 
     started = run_folder.now_utc()
     design = load_design(args.design)
-    sha = config_sha256(Path(args.design))
     evaluation = evaluate(design)
     out = Path(args.out) if args.out else run_folder.default_run_dir(design.name)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise NecflowError(f"cannot create run folder {out}: {exc.strerror}") from None
-    doc = results.results_document(evaluation, config_sha256=sha)
-    (out / "design.resolved.yaml").write_text(resolved_yaml(design), encoding="utf-8")
-    results.write_json(doc, out / "results.json")
-    (out / "results.csv").write_text(results.csv_text(doc), encoding="utf-8")
-    save_swr_png(evaluation, out / "swr.png")
-    from necflow.report.decision import write_report, write_report_inputs
-    write_report_inputs(evaluation, out, config_sha256=sha,
-                        study_dir=getattr(args, "study", None))
-    run_folder.write_manifest(out, config_sha256=sha, config_path=str(args.design),
-                              started=started, finished=run_folder.now_utc(),
-                              argv=["necflow", *sys.argv[1:]])
-    write_report(out)
+    doc = run_folder.write_run_folder(evaluation, out, config_path=str(args.design),
+                                      started=started, argv=["necflow", *sys.argv[1:]],
+                                      study_dir=getattr(args, "study", None))
     if args.json:
         json.dump(doc, sys.stdout, indent=1)
         print()

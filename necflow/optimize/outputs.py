@@ -110,22 +110,12 @@ def band_table_text(evaluation, title: str) -> str:
 
 
 def write_evaluation(evaluation, folder: Path, *, config_path: str, started) -> None:
-    """The evaluate outputs of one design into ``folder``."""
-    from necflow.config.resolve import config_sha256, resolved_yaml
-    from necflow.report import results, run_folder
-    from necflow.report.plots import save_swr_png
+    """The evaluate outputs of one design into ``folder`` (report included)."""
+    from necflow.report import run_folder
 
-    folder.mkdir(parents=True, exist_ok=True)
-    sha = config_sha256(Path(config_path))
-    doc = results.results_document(evaluation, config_sha256=sha)
-    (folder / "design.resolved.yaml").write_text(resolved_yaml(evaluation.design),
-                                                 encoding="utf-8")
-    results.write_json(doc, folder / "results.json")
-    (folder / "results.csv").write_text(results.csv_text(doc), encoding="utf-8")
-    save_swr_png(evaluation, folder / "swr.png")
-    run_folder.write_manifest(folder, config_sha256=sha, config_path=config_path,
-                              started=started, finished=run_folder.now_utc(),
-                              argv=[redact_url(a) for a in ["necflow", *sys.argv[1:]]])
+    run_folder.write_run_folder(
+        evaluation, folder, config_path=config_path, started=started,
+        argv=[redact_url(a) for a in ["necflow", *sys.argv[1:]]], study_dir=folder.parent)
 
 
 def write_outputs(study, design, space, out: Path, *, storage_shown: str,

@@ -60,3 +60,40 @@ def write_manifest(folder: Path, *, config_sha256: str, config_path: str,
     doc.update(extra or {})
     (folder / "manifest.json").write_text(json.dumps(doc, indent=1) + "\n", encoding="utf-8")
     return doc
+
+
+def write_run_folder(evaluation, folder: Path, *, config_path: str, started: datetime,
+                     argv: list[str] | None = None, study_dir=None,
+                     extra_manifest: dict | None = None) -> dict:
+    """Write every output of one evaluation into ``folder``.
+
+    The one writer used by ``necflow evaluate`` and by studies for their best
+    design: ``design.resolved.yaml``, ``results.json``/``.csv``, ``swr.png``,
+    the report inputs (``report_data.json``, far field included, and the
+    Touchstone files), ``manifest.json`` and ``report.html``.
+
+    Returns the ``results.json`` document.
+    """
+    from necflow.config.resolve import config_sha256, resolved_yaml
+    from necflow.errors import NecflowError
+    from necflow.report import results
+    from necflow.report.decision import write_report, write_report_inputs
+    from necflow.report.plots import save_swr_png
+
+    folder = Path(folder)
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise NecflowError(f"cannot create run folder {folder}: {exc.strerror}") from None
+    sha = config_sha256(Path(config_path))
+    doc = results.results_document(evaluation, config_sha256=sha)
+    (folder / "design.resolved.yaml").write_text(resolved_yaml(evaluation.design),
+                                                 encoding="utf-8")
+    results.write_json(doc, folder / "results.json")
+    (folder / "results.csv").write_text(results.csv_text(doc), encoding="utf-8")
+    save_swr_png(evaluation, folder / "swr.png")
+    write_report_inputs(evaluation, folder, config_sha256=sha, study_dir=study_dir)
+    write_manifest(folder, config_sha256=sha, config_path=str(config_path), started=started,
+                   finished=now_utc(), argv=argv, extra=extra_manifest)
+    write_report(folder)
+    return doc
