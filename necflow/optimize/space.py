@@ -262,6 +262,15 @@ def apply(design: Design, values: dict[str, Any]) -> Design:
                 raise ConfigError("value must be positive", field=path)
             owner.__dict__[name] = float(value)
             continue
+        if isinstance(owner, PartElement):
+            # the same for a part's other numbers (q, esr, ratings): check
+            # the field's own limits, then set the SI float
+            try:
+                _check_limits(float(value), _limits(owner, name), dimension, name)
+            except ValueError as exc:
+                raise ConfigError(str(exc), field=path) from None
+            owner.__dict__[name] = float(value)
+            continue
         try:
             setattr(owner, name, assigned)
         except ValidationError as exc:
