@@ -19,7 +19,7 @@ demo: $(STAMP)
 	@# A short, seeded study of the demo doublet (about half a minute on 2 cores);
 	@# it prints the per-band table before and after. A fresh folder each time.
 	rm -rf runs/demo-study
-	$(VENV)/bin/necflow optimize configs/study-demo.yaml --trials 60 --seed 1 --workers 2 \
+	$(VENV)/bin/necflow optimize configs/demo.yaml --trials 150 --seed 1 --workers 2 \
 		--out runs/demo-study
 
 test: $(STAMP)
