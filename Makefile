@@ -6,7 +6,7 @@ VENV   ?= .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.necflow-installed
 
-.PHONY: demo test check-configs docs clean
+.PHONY: demo test bench check-configs docs clean
 
 $(STAMP): pyproject.toml
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
@@ -24,6 +24,11 @@ demo: $(STAMP)
 
 test: $(STAMP)
 	$(PY) -m pytest -q
+
+# Speed benchmark (not part of `make test`; about 10-15 minutes on 2 cores):
+# prints a table and writes bench.json.
+bench: $(STAMP)
+	$(PY) bench/run.py
 
 # Regenerate the design-key reference in README.md from the schema.
 docs: $(STAMP)
