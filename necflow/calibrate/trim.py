@@ -20,7 +20,7 @@ from scipy.optimize import least_squares
 
 from necflow import units
 from necflow.catalog.bands import Band, resolve_bands
-from necflow.config.schema import Design, PartElement
+from necflow.config.schema import Design, LineElement, PartElement
 from necflow.errors import ConfigError, ModelError
 from necflow.measure.types import gamma_from_z
 from necflow.optimize.space import Param, locate
@@ -53,15 +53,17 @@ class Target:
 def resolve_targets(design: Design, targets: dict[str, str]) -> list[Target]:
     """Targets by band name: a frequency with unit, or ``centre``.
 
+    With no targets at all, every selected band is a ``centre`` target: the
+    lowest SWR is put at the centre of each band.
+
     Raises
     ------
     ConfigError
-        Unknown band, unreadable frequency, or no targets at all.
+        Unknown band or unreadable frequency.
     """
-    if not targets:
-        raise ConfigError("no targets: give a frequency or 'centre' per band in the design's "
-                          "'targets' section or with --target BAND=FREQ", field="targets")
     bands = {b.name: b for b in resolve_bands(design)}
+    if not targets:
+        targets = {name: "centre" for name in bands}
     out = []
     for name, text in targets.items():
         if name not in bands:
@@ -147,14 +149,19 @@ class TrimResult:
 
 
 def default_adjustable(design: Design) -> dict[str, SearchParam]:
-    """The antenna's length (+-10 %) and each capacitor or inductor (/3 .. x3)."""
+    """The antenna's length (+-10 %), each balanced matching section's length
+    (+-25 %) and each capacitor or inductor (/3 .. x3)."""
     out: dict[str, SearchParam] = {}
     a = design.antenna
     for name in ("span", "leg"):
         if hasattr(a, name):
             v = getattr(a, name)
             out[f"antenna.{name}"] = SearchParam(range=(f"{0.9 * v!r} m", f"{1.1 * v!r} m"))
+    from necflow.catalog.lines import LINE_TYPES
     for el in design.feed:
+        if isinstance(el, LineElement) and el.line in LINE_TYPES and LINE_TYPES[el.line].balanced:
+            out[f"feed.{el.id}.length"] = SearchParam(
+                range=(f"{0.75 * el.length!r} m", f"{1.25 * el.length!r} m"))
         if isinstance(el, PartElement) and el.kind in ("capacitor", "inductor"):
             unit = "pF" if el.kind == "capacitor" else "uH"
             scale = 1e12 if el.kind == "capacitor" else 1e6
