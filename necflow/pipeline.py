@@ -95,7 +95,7 @@ def band_points(bands: list[Band]) -> tuple[np.ndarray, np.ndarray]:
     return np.concatenate(freqs), np.concatenate(index)
 
 
-def solve_antenna(model, frequency_hz: np.ndarray, solver: Solver | None = None) -> np.ndarray:
+def feedpoint_response(model, frequency_hz: np.ndarray, solver: Solver | None = None) -> np.ndarray:
     """Feedpoint impedance at every frequency, solving each distinct one once."""
     if solver is None:
         from necflow.engine import solve_feedpoint as solver
@@ -125,7 +125,7 @@ def evaluate(design: Design, *, solver: Solver | None = None) -> Evaluation:
     model = build_model(design, f_max)
     findings = check_rules(model, design, f_min, f_max)
     chain = build_chain(design.feed, r_radio=design.radio.impedance)
-    z_feed = solve_antenna(model, f, solver)
+    z_feed = feedpoint_response(model, f, solver)
     system = analyse(chain, f, z_feed, z_ref=design.radio.impedance,
                      power_w=design.radio.power)
     notes = find_cautions(system, design.cautions.voltage, design.feed)

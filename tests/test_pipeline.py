@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from necflow.config.load import load_design, load_design_text
-from necflow.pipeline import band_points, evaluate, solve_antenna
+from necflow.pipeline import band_points, evaluate, feedpoint_response
 from necflow.report import results
 from tests.conftest import CONFIGS, dipole_like_solver
 
@@ -48,7 +48,7 @@ def test_overlapping_bands_solve_each_frequency_once():
         return dipole_like_solver(model, f)
 
     f = np.array([7.0e6, 7.1e6, 7.1e6, 7.2e6])
-    z = solve_antenna(None, f, counting)
+    z = feedpoint_response(None, f, counting)
     assert len(calls) == 1 and len(calls[0]) == 3
     assert z[1] == z[2]
 
