@@ -25,3 +25,18 @@ def dipole_like_solver(model, frequency_hz):
     r = 60.0 * (f / f0) ** 2
     x = 900.0 * (f / f0 - f0 / f)
     return r + 1j * x
+
+
+def design_of(antenna: dict, ground: dict | None = None, **model):
+    """A minimal valid design around an antenna (free space unless told)."""
+    from necflow.config.schema import Design
+
+    return Design(name="model-test", bands=["20m"], feed=[],
+                  ground=ground or {"model": "free-space"}, antenna=antenna,
+                  model=model or {})
+
+
+@pytest.fixture
+def make_design():
+    """Factory of minimal designs for the wire-model and engine tests."""
+    return design_of

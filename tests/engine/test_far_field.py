@@ -17,7 +17,7 @@ from scipy.constants import speed_of_light
 from necflow.engine.far_field import (average_gain, average_gain_test, far_field,
                                       lossless_copy, sphere_average)
 from necflow.model import GroundModel, build_model
-from tests.engine.conftest import design_of
+from tests.conftest import design_of
 
 F = 7.0e6
 LAM = speed_of_light / F

@@ -15,7 +15,7 @@ from scipy.constants import mu_0, speed_of_light
 
 from necflow.engine import solve_feedpoint
 from necflow.model import build_model
-from tests.engine.conftest import design_of
+from tests.conftest import design_of
 
 pytestmark = pytest.mark.engine
 
