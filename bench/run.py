@@ -171,7 +171,7 @@ def solve_rate(design, workers: int) -> dict:
     out = {}
     for n in sorted({1, workers}):
         with ParallelSolver(workers=n) as ps:
-            ps.solve_many(models[:1], [f[:2]])          # start the pool before timing
+            ps.solve_many(models[:n], [f[:2]] * n)      # start the pool before timing
             t0 = time.perf_counter()
             ps.solve_many(models, [f] * len(models))
             dt = time.perf_counter() - t0

@@ -79,6 +79,11 @@ def _parser() -> argparse.ArgumentParser:
                    "the same folder resumes the study)")
     o.add_argument("--report-only", action="store_true", help="run no trials: write the "
                    "best design, leaderboard and tables of the study as it stands")
+    o.add_argument("--method", choices=("trials", "split"), default="trials",
+                   help="trials: sampled trials over every parameter; split: geometry grid "
+                   "screened, leaders confirmed, feed searched per geometry without solves")
+    o.add_argument("--no-cache", action="store_true", help="keep no solves on disk "
+                   "(default: <run folder>/solves.sqlite, shared by workers and resumes)")
     o.set_defaults(func=cmd_optimize)
 
     b = sub.add_parser("batch", help="evaluate or optimise a matrix of variants of a design")

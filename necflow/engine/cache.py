@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import os
 import sqlite3
+import time
 from pathlib import Path
 
 import numpy as np
@@ -88,11 +89,29 @@ class SolveStore:
         # A connection must not cross a fork: open one per process.
         if self._conn is None or self._pid != os.getpid():
             conn = sqlite3.connect(self.path, timeout=self._timeout, isolation_level=None)
-            conn.execute("PRAGMA journal_mode=WAL")
+            # switching to WAL and creating the table can meet another
+            # process doing the same; SQLite then answers "locked" at once
+            # instead of waiting, so wait and retry here
+            self._retry(lambda: conn.execute("PRAGMA journal_mode=WAL"))
             conn.execute("PRAGMA synchronous=NORMAL")
-            conn.execute(_SCHEMA)
+            self._retry(lambda: conn.execute(_SCHEMA))
             self._conn, self._pid = conn, os.getpid()
         return self._conn
+
+    def _retry(self, op):
+        """Run ``op``, retrying while the database is locked (up to the timeout)."""
+        deadline = time.monotonic() + self._timeout
+        delay = 0.005
+        while True:
+            try:
+                return op()
+            except sqlite3.OperationalError as exc:
+                text = str(exc).lower()
+                if ("locked" not in text and "busy" not in text) or \
+                        time.monotonic() > deadline:
+                    raise
+                time.sleep(delay)
+                delay = min(delay * 2, 0.2)
 
     def get(self, model_key: str, frequency_hz,
             engine: str | None = None) -> tuple[np.ndarray, np.ndarray]:
@@ -106,9 +125,10 @@ class SolveStore:
         found : ndarray of bool, shape (n,)
         """
         keys = frequency_keys(frequency_hz)
-        rows = self._connection().execute(
+        conn = self._connection()
+        rows = self._retry(lambda: conn.execute(
             "SELECT f_mhz, re, im FROM solves WHERE model = ? AND engine = ?",
-            (model_key, engine or self.engine)).fetchall()
+            (model_key, engine or self.engine)).fetchall())
         z = np.full(keys.shape, np.nan + 1j * np.nan, dtype=complex)
         found = np.zeros(keys.shape, dtype=bool)
         if rows:
@@ -128,13 +148,18 @@ class SolveStore:
         rows = [(model_key, eng, int(k), float(v.real), float(v.imag))
                 for k, v in zip(keys.tolist(), z.tolist())]
         conn = self._connection()
-        conn.execute("BEGIN IMMEDIATE")
-        try:
-            conn.executemany("INSERT OR IGNORE INTO solves VALUES (?, ?, ?, ?, ?)", rows)
-            conn.execute("COMMIT")
-        except BaseException:
-            conn.execute("ROLLBACK")
-            raise
+
+        def write():
+            conn.execute("BEGIN IMMEDIATE")
+            try:
+                conn.executemany("INSERT OR IGNORE INTO solves VALUES (?, ?, ?, ?, ?)", rows)
+                conn.execute("COMMIT")
+            except BaseException:
+                if conn.in_transaction:
+                    conn.execute("ROLLBACK")
+                raise
+
+        self._retry(write)
 
     def count(self) -> int:
         """Rows stored (all engine versions)."""

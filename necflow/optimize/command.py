@@ -34,7 +34,7 @@ def options_from_args(args, design):
     out = Path(args.out) if args.out else default_out(design.name)
     return StudyOptions(out=out, study_name=args.study or design.name, trials=trials,
                         timeout_s=timeout, workers=args.workers, storage=args.storage,
-                        seed=args.seed)
+                        seed=args.seed, cache=not getattr(args, "no_cache", False))
 
 
 def start_trial(study):
@@ -71,11 +71,15 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
     if not args.report_only:
         print(f"necflow: study '{opts.study_name}' in {shown}: {len(space.params)} "
               f"parameter(s), {opts.workers} worker(s)", file=err, flush=True)
-        progress = StudyProgress(err, opts.trials, opts.timeout_s, live=err.isatty())
-        try:
-            study, why = run_study(design, space, opts, solver=solver, on_trial=progress)
-        finally:
-            progress.close()
+        if getattr(args, "method", "trials") == "split":
+            from necflow.optimize.split_command import run_split
+            why = run_split(design, space, opts, study, err, solver=solver)
+        else:
+            progress = StudyProgress(err, opts.trials, opts.timeout_s, live=err.isatty())
+            try:
+                study, why = run_study(design, space, opts, solver=solver, on_trial=progress)
+            finally:
+                progress.close()
     counted = counted_trials(study)
     states = [t.state.name for t in study.get_trials(deepcopy=False)]
     result = write_outputs(study, design, space, opts.out, storage_shown=shown, solver=solver)

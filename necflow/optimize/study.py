@@ -48,6 +48,7 @@ class StudyOptions:
     workers: int = 1
     storage: str | None = None
     seed: int | None = None
+    cache: bool = True           # keep solves in <out>/solves.sqlite for every worker and run
 
 
 def parse_duration(text: str) -> float:
@@ -290,7 +291,11 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
     from necflow.optimize.evaluator import ResponseCache
 
     study = study or open_study(design, space, options)
-    cache = ResponseCache(solver)
+    store = None
+    if options.cache:
+        from necflow.engine.cache import SolveStore
+        store = SolveStore(options.out)
+    cache = ResponseCache(solver, store=store)
     storage = study._storage
     beats = hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval()
     host, pid = socket.gethostname(), os.getpid()
