@@ -173,6 +173,11 @@ class FeedBatch:
                     gamma[sel], zc[sel] = self._propagation(el, str(u))
             else:
                 g, z = self._propagation(el, None)
+                if length.shape[0] > 1:
+                    # grids repeat lengths: compute each distinct one once
+                    u, inv = np.unique(length[:, 0], return_inverse=True)
+                    if u.size < length.shape[0]:
+                        return line_abcd_batch(g[None], z[None], u[:, None])[inv]
                 gamma, zc = g[None], z[None]
             return line_abcd_batch(gamma, zc, length)
         if isinstance(el, LumpedPart):

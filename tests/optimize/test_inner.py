@@ -168,3 +168,19 @@ def test_feed_only_changes_trigger_no_solve(tmp_path):
     # a new cache over the same store (another process, a resumed study): no solve
     score_design(apply(design, {"feed.ladder.length": 7.0}), ResponseCache(store=store))
     assert solve_count() - before == 3
+
+
+def test_repeated_line_lengths_agree_with_scalar_power_flow(setup):
+    # a grid repeats each length once per other value: the batch computes each
+    # distinct length once and must still match the scalar path variant by variant
+    design, _, _, f, _ = setup
+    z_fp = dipole_like_solver(None, f)
+    lengths = np.array([7.0, 12.5, 7.0, 19.99, 12.5, 7.0])
+    chain = build_chain(design.feed, r_radio=50.0)
+    r = FeedBatch(chain, f, [("ladder", "length")]).response({("ladder", "length"): lengths},
+                                                             z_fp)
+    for k, length in enumerate(lengths):
+        s = analyse(build_chain(apply(design, {"feed.ladder.length": length}).feed, 50.0),
+                    f, z_fp)
+        assert np.allclose(r.z_radio[k], s.z_radio, rtol=1e-9, atol=0)   # rounding only
+        assert np.allclose(r.loss_db[k], s.loss_db["total"], rtol=1e-9, atol=1e-12)
