@@ -150,8 +150,11 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
     f, band_index = band_points(bands)
     f_max = float(f.max())
     geo = [p for p in space.params if p.geometry]
-    feed = FeedSearch(design, [p for p in space.params if not p.geometry], f, band_index,
-                      bands)
+    try:
+        feed = FeedSearch(design, [p for p in space.params if not p.geometry], f,
+                          band_index, bands)
+    except ValueError as exc:   # a feed field the batch cannot vary
+        raise ConfigError(f"{exc}; the trials method searches it", field="search") from None
     cands, models = [], []
     for g in geometry_candidates(geo, max_geometries, seed):
         try:

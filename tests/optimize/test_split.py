@@ -120,3 +120,13 @@ def test_cli_split_method_records_a_confirmed_trial(tmp_path, monkeypatch, capsy
     study = optuna.load_study(study_name="split-test", storage=storage)
     (trial,) = study.trials
     assert trial.user_attrs["necflow.confirmed"] is True
+
+
+def test_a_feed_field_the_batch_cannot_vary_is_a_config_error(problem):
+    from necflow.errors import ConfigError
+
+    design, _ = problem
+    d = design.model_copy(deep=True)
+    d.search = {"feed.ladder.velocity_factor": {"range": [0.8, 0.95]}}
+    with pytest.raises(ConfigError, match="cannot be varied in a batch"):
+        split_search(d, build_space(d), ResponseCache(GroundAware()))
