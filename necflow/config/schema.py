@@ -438,6 +438,10 @@ class TransformerElement(Strict):
         1.0, gt=0, description="Impedance ratio, antenna side : radio side (e.g. '4:1')",
         json_schema_extra={"default_text": "1:1"})
     loss: float = Field(0.1, ge=0, lt=10, description="Matched insertion loss in dB")
+    loss_model: Literal["series", "pad"] = Field(
+        "series", description="Where the loss is dissipated: series (winding resistance, the "
+        "differential-mode loss of a current balun) or pad (a matched attenuator, part of it "
+        "as shunt core loss of a voltage transformer)")
     voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0,
                                               description="Peak voltage rating")
     power_rating: Power | None = quantity("power", default=None, gt=0,

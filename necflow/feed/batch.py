@@ -86,8 +86,9 @@ def part_impedance_batch(f, kind: str, value, q, esr) -> np.ndarray:
     return r + 1j * x
 
 
-def transformer_abcd_batch(nfreq: int, ratio, loss_db, r_radio: float) -> np.ndarray:
-    """Matched pad of ``loss_db`` in ``r_radio`` followed by an ideal
+def transformer_abcd_batch(nfreq: int, ratio, loss_db, r_radio: float,
+                           loss_model: str = "series") -> np.ndarray:
+    """Loss element of ``loss_db`` in ``r_radio`` followed by an ideal
     transformer of impedance ratio ``ratio`` (antenna : radio), as
     :func:`necflow.feed.transformer.transformer_abcd`, per variant.
 
@@ -95,11 +96,17 @@ def transformer_abcd_batch(nfreq: int, ratio, loss_db, r_radio: float) -> np.nda
     ----------
     .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, table 4.1.
     """
-    a = np.asarray(loss_db, dtype=float) * math.log(10.0) / 20.0
+    loss = np.asarray(loss_db, dtype=float)
     n = np.sqrt(np.asarray(ratio, dtype=float))
-    a, n = np.broadcast_arrays(a, n)
-    ch, sh = np.cosh(a), np.sinh(a)
-    m = np.stack([np.stack([ch / n, r_radio * sh * n], -1),
+    loss, n = np.broadcast_arrays(loss, n)
+    if loss_model == "series":
+        ch, sh = np.ones_like(loss), np.zeros_like(loss)
+        b = r_radio * (10.0 ** (loss / 10.0) - 1.0)
+    else:
+        a = loss * math.log(10.0) / 20.0
+        ch, sh = np.cosh(a), np.sinh(a)
+        b = r_radio * sh
+    m = np.stack([np.stack([ch / n, b * n], -1),
                   np.stack([sh / (r_radio * n), ch * n], -1)], -2).astype(complex)
     return np.broadcast_to(m[:, None], (m.shape[0], nfreq, 2, 2))
 
@@ -192,7 +199,8 @@ class FeedBatch:
             return np.stack([np.stack([one, zero], -1), np.stack([1.0 / z, one], -1)], -2)
         if isinstance(el, Transformer):
             return transformer_abcd_batch(self.f.size, _col(v.get("ratio", el.ratio), nvar)[:, 0],
-                                          _col(v.get("loss", el.loss_db), nvar)[:, 0], el.r_radio)
+                                          _col(v.get("loss", el.loss_db), nvar)[:, 0], el.r_radio,
+                                          el.loss_model)
         raise TypeError(f"unknown element type {type(el).__name__}")
 
     def response(self, values: dict[tuple[str, str], np.ndarray], z_feedpoint,

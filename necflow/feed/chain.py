@@ -105,15 +105,16 @@ class Transformer:
     loss_db: float
     r_radio: float = 50.0
     label: str = "transformer"
+    loss_model: str = "series"
     kind: str = field(default="transformer", init=False)
 
     @property
     def metadata(self) -> dict[str, Any]:
         return {"transformer": self.label, "ratio": self.ratio, "loss_db": self.loss_db,
-                "r_radio_ohm": self.r_radio}
+                "r_radio_ohm": self.r_radio, "loss_model": self.loss_model}
 
     def abcd(self, f) -> np.ndarray:
-        return transformer_abcd(f, self.ratio, self.loss_db, self.r_radio)
+        return transformer_abcd(f, self.ratio, self.loss_db, self.r_radio, self.loss_model)
 
 
 FeedElement = LineSection | LumpedPart | Transformer
@@ -188,7 +189,8 @@ def build_chain(feed: Sequence[Any], r_radio: float = 50.0) -> FeedChain:
         if hasattr(el, "line") and getattr(el, "line", None) is not None:
             out.append(LineSection(el.id, _line_type(el, i), el.length))
         elif hasattr(el, "transformer"):
-            out.append(Transformer(el.id, el.ratio, el.loss, r_radio, el.transformer))
+            out.append(Transformer(el.id, el.ratio, el.loss, r_radio, el.transformer,
+                                   el.loss_model))
         elif getattr(el, "series", None) or getattr(el, "shunt", None):
             out.append(LumpedPart(el.id, el.placement, el.kind, el.value, el.q, el.esr))
         else:

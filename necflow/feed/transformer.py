@@ -50,8 +50,32 @@ def matched_attenuator_abcd(nfreq: int, loss_db: float, r0: float) -> np.ndarray
     return out
 
 
-def transformer_abcd(f, ratio: float, loss_db: float, r_radio: float) -> np.ndarray:
-    """A transformer or balun: matched attenuator (radio side) then ideal ratio.
+def series_loss_abcd(nfreq: int, loss_db: float, r0: float) -> np.ndarray:
+    """ABCD of a series resistance that dissipates ``loss_db`` between ``r0`` ends.
+
+    ``R = r0 (10^(loss_db/10) - 1)``: with a load ``r0`` the element takes in
+    ``|I|^2 (r0 + R)`` and passes ``|I|^2 r0``, so ``P_in / P_out`` is exactly
+    ``10^(loss_db/10)``.  ``[[1, R], [0, 1]]``.
+
+    References
+    ----------
+    .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, table 4.1
+       (series impedance).
+    """
+    out = np.zeros((nfreq, 2, 2), dtype=complex)
+    out[:, 0, 0] = 1.0
+    out[:, 1, 1] = 1.0
+    out[:, 0, 1] = r0 * (10.0 ** (loss_db / 10.0) - 1.0)
+    return out
+
+
+#: Loss models of a transformer: where its matched loss is dissipated.
+LOSS_MODELS = ("series", "pad")
+
+
+def transformer_abcd(f, ratio: float, loss_db: float, r_radio: float,
+                     loss_model: str = "series") -> np.ndarray:
+    """A transformer or balun: loss element (radio side) then ideal ratio.
 
     Parameters
     ----------
@@ -65,6 +89,13 @@ def transformer_abcd(f, ratio: float, loss_db: float, r_radio: float) -> np.ndar
         Reference impedance on the radio side [ohm]; the antenna side's is
         ``ratio * r_radio``.  With those terminations the loss is exactly
         ``loss_db``.
+    loss_model : {"series", "pad"}
+        ``series``: the loss is winding (conductor) resistance in series, the
+        differential-mode loss of a current (choke) balun or a line-wound
+        transformer; it stays small into a high-impedance load.  ``pad``:
+        a matched resistive attenuator, part of the loss in a shunt
+        resistance as core loss of a voltage transformer; into a nearly
+        reactive high-impedance load its loss grows large.
 
     Returns
     -------
@@ -73,14 +104,19 @@ def transformer_abcd(f, ratio: float, loss_db: float, r_radio: float) -> np.ndar
 
     Notes
     -----
-    A real balun's loss depends on the load and on the common-mode current
-    it has to choke; neither is modelled: the loss here is that of a matched
-    resistive pad, which grows with the mismatch in the way a pad's does.
+    A real balun's loss depends on the load, the core and the common-mode
+    current it has to choke; the two models bracket the differential-mode
+    behaviour and common-mode current is not modelled.
 
     References
     ----------
     .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, table 4.1.
     """
     nf = np.atleast_1d(np.asarray(f)).size
-    return (matched_attenuator_abcd(nf, loss_db, r_radio)
-            @ ideal_transformer_abcd(nf, ratio))
+    if loss_model == "series":
+        loss = series_loss_abcd(nf, loss_db, r_radio)
+    elif loss_model == "pad":
+        loss = matched_attenuator_abcd(nf, loss_db, r_radio)
+    else:
+        raise ValueError(f"loss_model is one of {LOSS_MODELS}, not {loss_model!r}")
+    return loss @ ideal_transformer_abcd(nf, ratio)

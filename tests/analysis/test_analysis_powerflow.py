@@ -235,7 +235,8 @@ def test_matched_line_swr_and_peak_voltage():
 
 
 def test_transformer_stress_and_matched_loss_in_chain():
-    ch = FeedChain((Transformer("bal", 4.0, 0.25, 50.0),))
+    # The matched-pad loss model reads exactly r0 when terminated in ratio x r0.
+    ch = FeedChain((Transformer("bal", 4.0, 0.25, 50.0, loss_model="pad"),))
     s = analyse(ch, [7.1e6], 200.0, power_w=100.0)
     assert s.loss_db["bal"][0] == pytest.approx(0.25, abs=1e-12)
     assert s.swr[0] == pytest.approx(1.0, rel=1e-12)

@@ -112,12 +112,37 @@ def test_transformer_ratio_and_matched_loss():
     lossless = Transformer("t", 4.0, 0.0, 50.0).abcd(F)
     zl = np.array([200 + 0j, 37 - 80j, 1000 + 300j])
     np.testing.assert_allclose(twoport.input_impedance(lossless, zl), zl / 4, rtol=1e-12)
-    lossy = Transformer("t", 4.0, 0.5, 50.0).abcd(F)
+    lossy = Transformer("t", 4.0, 0.5, 50.0, loss_model="pad").abcd(F)
     np.testing.assert_allclose(twoport.input_impedance(lossy, 200.0), 50.0, rtol=1e-12)
     v1 = np.ones(3, complex)
     v2, i2 = twoport.step_forward(lossy, v1, v1 / 50.0)
     p_out = (v2 * i2.conj()).real
     np.testing.assert_allclose(10 * np.log10((1 / 50.0) / p_out), 0.5, rtol=1e-12)
+
+
+def test_transformer_series_loss_model():
+    # Series winding resistance R = r0 (10^(L/10) - 1) (Pozar table 4.1, series
+    # impedance): terminated in ratio x r0 it reads r0 + R and P_in/P_out is
+    # exactly 10^(L/10).  Into a high, nearly reactive load it loses far less
+    # than the pad model, whose shunt resistance sees the full voltage.
+    t = Transformer("t", 4.0, 0.5, 50.0, loss_model="series")
+    r = 50.0 * (10 ** 0.05 - 1)
+    np.testing.assert_allclose(twoport.input_impedance(t.abcd(F), 200.0), 50.0 + r, rtol=1e-12)
+    v1 = np.ones(3, complex)
+    v2, i2 = twoport.step_forward(t.abcd(F), v1, v1 / (50.0 + r))
+    p_in = 1 / (50.0 + r)
+    p_out = (v2 * i2.conj()).real
+    np.testing.assert_allclose(10 * np.log10(p_in / p_out), 0.5, rtol=1e-12)
+
+    def loss_into(model, zl):
+        m = Transformer("t", 1.0, 0.15, 50.0, loss_model=model).abcd(F)
+        zin = twoport.input_impedance(m, zl)
+        v1 = np.ones(3, complex)
+        v2, i2 = twoport.step_forward(m, v1, v1 / zin)
+        return 10 * np.log10((v1 * (v1 / zin).conj()).real / (v2 * i2.conj()).real)
+
+    zl = 20 - 1500j
+    assert np.all(loss_into("series", zl) < 0.2 * loss_into("pad", zl))
 
 
 def test_custom_and_overridden_lines():
