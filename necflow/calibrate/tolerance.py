@@ -35,6 +35,12 @@ class Tolerance:
     nominal: float
     half_width: float
     geometry: bool
+    fraction: float | None = None   # half-width as a share of the value (a % tolerance)
+
+    def half_at(self, value: float) -> float:
+        """Half-width around ``value`` [SI]: the share of it for a percentage
+        tolerance, else the stated amount."""
+        return self.half_width if self.fraction is None else self.fraction * abs(value)
 
 
 def parse_tolerances(design: Design) -> list[Tolerance]:
@@ -59,9 +65,11 @@ def parse_tolerances(design: Design) -> list[Tolerance]:
             raise ConfigError("not a numeric field; a tolerance needs a number", field=where)
         dim = _dimension(owner, name)
         t = str(text).strip()
+        fraction = None
         if t.endswith("%"):
             try:
-                half = abs(float(t[:-1])) / 100.0 * abs(nominal)
+                fraction = abs(float(t[:-1])) / 100.0
+                half = fraction * abs(nominal)
             except ValueError:
                 raise ConfigError(f"cannot read '{text}' as a percentage", field=where) from None
         elif dim:
@@ -78,7 +86,8 @@ def parse_tolerances(design: Design) -> list[Tolerance]:
         if nominal - half <= 0 and dim is not None:
             raise ConfigError(f"the tolerance reaches zero or below (nominal {nominal:g})",
                               field=where)
-        out.append(Tolerance(path, float(nominal), half, path.split(".")[0] != "feed"))
+        out.append(Tolerance(path, float(nominal), half, path.split(".")[0] != "feed",
+                             fraction))
     return out
 
 
@@ -106,34 +115,93 @@ def ground_states(design: Design, levels: int) -> list[dict] | None:
     return out
 
 
-def scenarios(design: Design, tolerances: list[Tolerance] | None = None, *,
-              samples: int | None = None, seed: int | None = None) -> list[dict]:
-    """The cases: one dict of field values [SI] per case, seeded.
+@dataclass(frozen=True)
+class Case:
+    """One Monte Carlo case as perturbations of whatever design it is applied to.
 
-    Cases sharing a geometry state have identical antenna and ground values,
-    so their antenna response is solved once.
+    Attributes
+    ----------
+    state : int
+        Index of the geometry state drawn; cases of one state have the same
+        geometry (and ground) on any design, so their antenna response is
+        solved once.
+    shares : tuple of (Tolerance, float)
+        Each toleranced field and its position within the tolerance, in
+        [-1, 1]: the field becomes ``value + share * half`` with ``half`` the
+        stated amount, or for a percentage tolerance that share of the
+        field's own value on the design the case is applied to.
+    ground : tuple of (str, float)
+        Ground constants of the season state [SI] (empty without
+        ``tolerances.ground``); they replace the design's ground.
     """
+
+    state: int
+    shares: tuple[tuple[Tolerance, float], ...]
+    ground: tuple[tuple[str, float], ...] = ()
+
+    def values(self, base: dict[str, float]) -> dict[str, float]:
+        """Field values of the case [SI] around ``base`` (path -> value of the
+        design the case is applied to, see :func:`base_values`)."""
+        out = {t.path: base[t.path] + u * t.half_at(base[t.path]) for t, u in self.shares}
+        out.update(self.ground)
+        return out
+
+    def geometry_key(self) -> tuple:
+        """What decides the case's antenna response besides the design."""
+        return self.state, tuple((t.path, u) for t, u in self.shares if t.geometry), self.ground
+
+
+def base_values(design: Design, tolerances: list[Tolerance]) -> dict[str, float]:
+    """Current value of every toleranced field of ``design`` [SI]."""
+    from necflow.calibrate.params import current_value
+
+    return {t.path: float(current_value(design, t.path)) for t in tolerances}
+
+
+def perturbations(design: Design, tolerances: list[Tolerance] | None = None, *,
+                  samples: int | None = None, seed: int | None = None) -> list[Case]:
+    """The seeded cases as perturbations (see :class:`Case`), independent of
+    the values the design's toleranced fields happen to have."""
     spec = design.tolerances
     tols = parse_tolerances(design) if tolerances is None else tolerances
     n = spec.samples if samples is None else samples
     rng = np.random.default_rng(spec.seed if seed is None else seed)
     k = spec.levels
     centres = -1.0 + (2.0 * np.arange(k) + 1.0) / k
-    axes = [[{t.path: t.nominal + c * t.half_width} for c in centres]
-            for t in tols if t.geometry]
+    geo = [t for t in tols if t.geometry]
+    axes = [[(("share", t, float(c)),) for c in centres] for t in geo]
     g = ground_states(design, k)
     if g is not None:
-        axes.append(g)
-    states = [dict(itertools.chain.from_iterable(d.items() for d in combo))
-              for combo in itertools.product(*axes)] if axes else [{}]
+        axes.append([tuple(("ground", key, v) for key, v in gs.items()) for gs in g])
+    states = [tuple(itertools.chain.from_iterable(combo))
+              for combo in itertools.product(*axes)] if axes else [()]
     if len(states) > spec.max_states:
         pick = rng.choice(len(states), spec.max_states, replace=False)
         states = [states[i] for i in sorted(pick)]
     feed = [t for t in tols if not t.geometry]
     which = rng.integers(0, len(states), n)
     draws = rng.uniform(-1.0, 1.0, (n, len(feed)))
-    return [{**states[which[i]], **{t.path: t.nominal + draws[i, j] * t.half_width
-                                    for j, t in enumerate(feed)}} for i in range(n)]
+    out = []
+    for i in range(n):
+        st = states[which[i]]
+        shares = tuple((t, u) for kind, t, u in st if kind == "share")
+        shares += tuple((t, float(draws[i, j])) for j, t in enumerate(feed))
+        out.append(Case(int(which[i]), shares,
+                        tuple((key, v) for kind, key, v in st if kind == "ground")))
+    return out
+
+
+def scenarios(design: Design, tolerances: list[Tolerance] | None = None, *,
+              samples: int | None = None, seed: int | None = None) -> list[dict]:
+    """The cases applied to ``design``: one dict of field values [SI] per case,
+    seeded.
+
+    Cases sharing a geometry state have identical antenna and ground values,
+    so their antenna response is solved once.
+    """
+    tols = parse_tolerances(design) if tolerances is None else tolerances
+    base = {t.path: t.nominal for t in tols}
+    return [c.values(base) for c in perturbations(design, tols, samples=samples, seed=seed)]
 
 
 @dataclass(frozen=True)
@@ -250,18 +318,16 @@ def tolerance_figure(result: ToleranceResult, title: str = ""):
     return fig
 
 
-def robust_cost(design: Design, cases: list[dict], cache, how: str = "expected") -> float:
+def robust_cost(design: Design, cases: list[Case], cache, how: str = "expected") -> float:
     """Cost of a design over a scenario set: the mean ("expected") or the
-    largest ("worst") of the optimiser's cost over the cases.
+    largest ("worst") of the optimiser's cost over the cases applied to it.
 
-    The seam for robust design in the optimiser: a study scores each trial's
-    design with this instead of :func:`necflow.optimize.cost.score`.  The
-    cases come from :func:`scenarios`; cases sharing a geometry state reuse
-    one solve through ``cache`` (a :class:`necflow.optimize.evaluator.ResponseCache`).
+    The cases come from :func:`perturbations` (on any design with the same
+    tolerances); see :func:`necflow.optimize.robust.robust_score`, which a
+    study with ``cost.robust`` uses, for the terms and the cache sharing.
     """
-    from necflow.optimize.evaluator import score_design
+    from necflow.optimize.robust import RobustPlan, robust_score
 
     if how not in ("expected", "worst"):
         raise ValueError("how is 'expected' or 'worst'")
-    costs = np.array([score_design(set_values(design, c), cache)[1].cost for c in cases])
-    return float(costs.mean() if how == "expected" else costs.max())
+    return robust_score(design, RobustPlan(how, parse_tolerances(design), cases), cache).cost

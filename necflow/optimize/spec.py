@@ -62,6 +62,19 @@ class SearchParam(_Strict):
 COST_OBJECTIVES = ("cost", "worst_swr", "loss_db", "span")
 
 
+class RobustSpec(_Strict):
+    """Score each trial over the tolerance cases of its design (robust design)."""
+
+    over: Literal["tolerances"] = Field(
+        "tolerances", description="The scenario set: the design's 'tolerances' section, "
+        "applied around each trial's own values (tolerances.samples cases drawn once with "
+        "tolerances.seed, the same for every trial; keep samples small, e.g. 16 to 64, as "
+        "each trial evaluates every case)")
+    how: Literal["expected", "worst"] = Field(
+        "expected", description="Minimise the mean of each objective over the cases "
+        "(expected) or its largest value (worst)")
+
+
 class CostSpec(_Strict):
     """How a design is scored: see the README section "Cost"."""
 
@@ -78,6 +91,10 @@ class CostSpec(_Strict):
         default_factory=lambda: ["cost"], min_length=1, max_length=3,
         description="What the study minimises: [cost] alone, or two or three of cost, "
         "worst_swr, loss_db, span for a Pareto front")
+    robust: RobustSpec | None = Field(
+        None, description="Robust design: score each trial by its expected or worst cost "
+        "over the tolerance cases instead of its nominal cost (trials method only); not set: "
+        "the nominal cost")
 
     @field_validator("objectives")
     @classmethod

@@ -173,8 +173,10 @@ def open_study(design, space, options: StudyOptions):
     """Create or load the study and check it matches this design and space."""
     import optuna
 
+    from necflow.optimize.robust import robust_plan
     from necflow.optimize.storage import guard_resume, open_storage
 
+    robust_plan(design, space)  # a robust setting that cannot work fails before any trial
     storage = open_storage(options.storage, options.out)
     n_obj = len(design.cost.objectives)
     sampler = optuna.samplers.TPESampler(seed=options.seed, constant_liar=True,
@@ -217,8 +219,9 @@ def enqueue_start(study, design, space) -> bool:
 # One trial
 
 
-def run_trial(trial, design, space, cache) -> tuple[float, ...]:
-    """Suggest, build, check, evaluate and score one variant.
+def run_trial(trial, design, space, cache, robust=None) -> tuple[float, ...]:
+    """Suggest, build, check, evaluate and score one variant (over the cases
+    of ``robust``, a :class:`~necflow.optimize.robust.RobustPlan`, if given).
 
     Raises
     ------
@@ -226,6 +229,7 @@ def run_trial(trial, design, space, cache) -> tuple[float, ...]:
         With the reason, when the variant is invalid or cannot be evaluated.
     """
     from necflow.optimize.evaluator import score_design
+    from necflow.optimize.robust import robust_score
     from necflow.optimize.space import apply, check_variant
 
     values = space.suggest(trial)
@@ -233,16 +237,23 @@ def run_trial(trial, design, space, cache) -> tuple[float, ...]:
         variant = apply(design, values)
         if space.geometry_paths:
             check_variant(variant)
-        _, sc = score_design(variant, cache)
+        if robust is None:
+            _, sc = score_design(variant, cache)
+            result = sc.values
+        else:
+            rs = robust_score(variant, robust, cache)
+            sc, result = rs.nominal, rs.values
     except Exception as exc:  # any failure of one variant must not end the study
         raise TrialFailure(f"{type(exc).__name__}: {exc}") from None
-    if not all(math.isfinite(v) for v in sc.values):
-        raise TrialFailure(f"the cost is not finite: {sc.values}")
+    if not all(math.isfinite(v) for v in result):
+        raise TrialFailure(f"the cost is not finite: {result}")
+    if robust is not None:
+        trial.set_user_attr("necflow.robust", rs.attrs())
     for band, terms in sc.bands.items():
         trial.set_user_attr(f"band:{band}", terms)
     trial.set_user_attr("necflow.terms", {"cost": sc.cost, "worst_swr": sc.worst_swr,
                                           "loss_db": sc.loss_db})
-    return sc.values
+    return result
 
 
 # ----------------------------------------------------------------------------
@@ -289,8 +300,10 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
     from optuna.trial import TrialState
 
     from necflow.optimize.evaluator import ResponseCache
+    from necflow.optimize.robust import robust_plan
 
     study = study or open_study(design, space, options)
+    robust = robust_plan(design, space)   # drawn once: the same cases for every trial
     store = None
     if options.cache:
         from necflow.engine.cache import SolveStore
@@ -324,7 +337,7 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
             state, values, reason = TrialState.FAIL, None, None
             try:
                 sig.in_trial = True
-                values = run_trial(trial, design, space, cache)
+                values = run_trial(trial, design, space, cache, robust)
                 sig.in_trial = False
                 state = TrialState.COMPLETE
             except TrialFailure as exc:
