@@ -63,6 +63,8 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     started = run_folder.now_utc()
     design, space = load_study_design(args.design)
+    from necflow.optimize.robust import check_method
+    check_method(design, getattr(args, "method", "trials"))  # before any storage is opened
     opts = options_from_args(args, design)
     shown = describe(opts.storage, opts.out)
     opts.out.mkdir(parents=True, exist_ok=True)
