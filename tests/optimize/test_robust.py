@@ -200,3 +200,16 @@ def test_optimize_command_end_to_end(tmp_path, monkeypatch):
     assert best.cost.robust is not None and best.cost.robust.how == "expected"
     ev = evaluate(best, solver=span_solver)
     assert np.all(np.isfinite(ev.system.swr))
+
+
+def test_split_method_with_robust_is_a_one_line_input_error(tmp_path, capsys):
+    from necflow.cli import main
+
+    path = write_study(tmp_path, ROBUST)
+    out = tmp_path / "run"
+    code = main(["optimize", str(path), "--method", "split", "--out", str(out)])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert "Traceback" not in err and len(err.strip().splitlines()) == 1
+    assert "cost.robust" in err and "trials" in err
+    assert not (out / "study.journal").exists()  # refused before the storage was opened
