@@ -24,7 +24,7 @@ import warnings
 from pathlib import Path
 
 from necflow import __version__
-from necflow.errors import NecflowError, NecflowWarning
+from necflow.errors import ConfigError, NecflowError, NecflowWarning
 
 SAFETY_LINE = ("caution: high RF voltages appear on series capacitors and open-wire line; "
                "keep antennas clear of power lines, mind RF exposure and lightning, and "
@@ -117,6 +117,11 @@ def main(argv: list[str] | None = None) -> int:
     except NecflowError as exc:
         if args.debug:
             traceback.print_exc()
+        design = getattr(args, "design", None)
+        if (isinstance(exc, ConfigError) and exc.file is None and design
+                and not (exc.field or "").startswith("--")):
+            from necflow.config.load import locate
+            exc = locate(exc, design)
         print(f"necflow: error: {exc}", file=sys.stderr)
         return exc.exit_code
     except KeyboardInterrupt:

@@ -125,3 +125,34 @@ def test_evaluate_every_config_writes_the_contract(config, tmp_path, capsys):
     code2, _, err2 = _run(["check", str(out_dir / "design.resolved.yaml")], capsys)
     assert code2 in (0, 1), err2
     assert "band" in out and "run folder" in out
+
+
+def test_report_on_something_that_is_not_a_run_folder(tmp_path, capsys):
+    code, _, err = _run(["report", str(tmp_path / "nope")], capsys)
+    assert code == 2 and "not a folder" in err and "Traceback" not in err
+    code, _, err = _run(["report", str(tmp_path)], capsys)
+    assert code == 2 and "results.json" in err
+
+
+def test_unwritable_run_folder_is_an_input_error(tmp_path, capsys):
+    blocker = tmp_path / "file"
+    blocker.write_text("x")
+    path = _write(tmp_path, BASE.format(height="10 m", diameter="2 mm", ground="sommerfeld",
+                                        spw=20))
+    code, _, err = _run(["evaluate", path, "--out", str(blocker)], capsys)
+    assert code == 2 and "--out" in err and len(err.strip().splitlines()) == 1
+
+
+def test_late_errors_name_the_design_file_and_line(tmp_path, capsys):
+    # Errors found after loading (here a search path) still name the file and
+    # the line of the field, like the loader's own.
+    text = (CONFIGS / "demo.yaml").read_text()
+    text = text.replace("search:\n", "search:\n  feed.nothere.length: [1 m, 2 m]\n", 1)
+    path = tmp_path / "d.yaml"
+    path.write_text(text)
+    line = text.splitlines().index("  feed.nothere.length: [1 m, 2 m]") + 1
+    code, _, err = _run(["optimize", str(path), "--trials", "1", "--out",
+                         str(tmp_path / "run")], capsys)
+    assert code == 2 and f"{path}:{line}:" in err and "nothere" in err
+    code, _, err = _run(["tolerance", str(path)], capsys)
+    assert code == 2 and str(path) in err and "tolerances" in err

@@ -108,6 +108,28 @@ def parse_yaml(text: str, file: str | None = None) -> tuple[Any, Lines]:
         loader.dispose()
 
 
+def locate(error: ConfigError, path: str | os.PathLike) -> ConfigError:
+    """Fill in the file and line of an error raised after loading.
+
+    Checks that run on a loaded design (search spaces, tolerances, targets)
+    know the field but not where it stands; this finds the line of the field,
+    or of its nearest parent the file has.  Never raises: if the file cannot
+    be read again the error is returned with the file name alone.
+    """
+    if error.file is not None:
+        return error
+    line = None
+    try:
+        _, lines = parse_yaml(Path(path).read_text(encoding="utf-8"), file=str(path))
+        where = parse_path(error.field or "")
+        while where and where not in lines:
+            where = where[:-1]
+        line = lines.get(where) if where else None  # a missing top-level key has no line
+    except (OSError, UnicodeDecodeError, ConfigError):
+        pass
+    return ConfigError(error.message, file=str(path), line=line, field=error.field)
+
+
 # ----------------------------------------------------------------------------
 # Entry points
 

@@ -50,7 +50,7 @@ def parse_path(text: str) -> tuple:
     return tuple(out)
 
 
-def _line_of(path: tuple | None, lines: Lines) -> int | None:
+def line_of(path: tuple | None, lines: Lines) -> int | None:
     """Line of ``path``, or of its nearest parent that the file has."""
     if path is None:
         return None
@@ -326,7 +326,7 @@ def first_error(problems: list[tuple[str, tuple | None]], file: str, lines: Line
     extra = len(problems) - 1
     if extra:
         message += f" (and {extra} more problem{'s' if extra > 1 else ''})"
-    return ConfigError(message, file=file, line=_line_of(path, lines),
+    return ConfigError(message, file=file, line=line_of(path, lines),
                        field=path_text(path) if path else None)
 
 

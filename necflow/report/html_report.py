@@ -14,7 +14,7 @@ from datetime import datetime, timezone
 from html import escape
 from pathlib import Path
 
-from necflow.errors import NecflowError
+from necflow.errors import ConfigError
 from necflow.report import figures
 from necflow.report.report_data import read_report_data
 
@@ -265,16 +265,16 @@ def _read(path: Path) -> dict:
     try:
         return json.loads(path.read_text(encoding="utf-8"))
     except FileNotFoundError:
-        raise NecflowError(f"{path} is missing: is this a necflow run folder?") from None
+        raise ConfigError(f"{path} is missing: is this a necflow run folder?") from None
     except (OSError, ValueError) as exc:
-        raise NecflowError(f"cannot read {path}: {exc}") from None
+        raise ConfigError(f"cannot read {path}: {exc}") from None
 
 
 def write_report(folder) -> Path:
     """(Re)write ``report.html`` in a run folder from the files it holds."""
     folder = Path(folder)
     if not folder.is_dir():
-        raise NecflowError(f"{folder} is not a folder")
+        raise ConfigError(f"{folder} is not a folder; expected a run folder written by evaluate")
     results = _read(folder / "results.json")
     report = read_report_data(folder)
     manifest = _read(folder / "manifest.json") if (folder / "manifest.json").exists() else {}

@@ -75,7 +75,7 @@ def write_run_folder(evaluation, folder: Path, *, config_path: str, started: dat
     Returns the ``results.json`` document.
     """
     from necflow.config.resolve import config_sha256, resolved_yaml
-    from necflow.errors import NecflowError
+    from necflow.errors import ConfigError
     from necflow.report import results
     from necflow.report.decision import write_report, write_report_inputs
     from necflow.report.plots import save_swr_png
@@ -84,7 +84,8 @@ def write_run_folder(evaluation, folder: Path, *, config_path: str, started: dat
     try:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise NecflowError(f"cannot create run folder {folder}: {exc.strerror}") from None
+        raise ConfigError(f"cannot create the run folder {folder}: {exc.strerror}",
+                          field="--out") from None
     sha = config_sha256(Path(config_path))
     doc = results.results_document(evaluation, config_sha256=sha)
     (folder / "design.resolved.yaml").write_text(resolved_yaml(evaluation.design),
