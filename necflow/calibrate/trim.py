@@ -338,9 +338,12 @@ def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None
         steps.append(Step(p.path, start[p.path], values[p.path],
                           instruction(design, p.path, start[p.path], values[p.path]), after, out))
         for band in out:
-            helped = ", ".join(t.band.name for t in tlist)
-            warns.append(f"step '{p.path}' helps {helped} but pushes {band} out of the SWR "
-                         "limit")
+            others = [t.band.name for t in tlist if t.band.name != band]
+            aim = (f"moves the SWR minima toward the targets of {', '.join(others)}"
+                   if others else "moves the SWR minimum toward its target")
+            warns.append(f"step '{p.path}' {aim} but leaves no point of {band} within the "
+                         "SWR limit (later steps may bring it back; see the table after each "
+                         "step)")
         prev = after
     if evaluate_steps and before and prev:
         lost = [a.band for a, b in zip(prev, before)
