@@ -145,3 +145,31 @@ def pattern_figure(report: dict):
         ax2.set_title(f"azimuth at {r['takeoff_deg']:.0f} deg elevation", fontsize=8)
         ax2.tick_params(labelsize=6)
     return fig
+
+
+def across_figure(band: str, records: list[dict], labels: list[str]):
+    """Antenna gain (solid) and the design's system gain (dashed) at each
+    elevation of interest against frequency across one band."""
+    import matplotlib
+
+    recs = sorted(records, key=lambda r: r["frequency_hz"])
+    f = np.array([r["frequency_hz"] for r in recs]) / 1e6
+    fig = _figure(4.8, 2.6)
+    ax = fig.add_subplot(1, 1, 1)
+    colours = matplotlib.rcParams["axes.prop_cycle"].by_key()["color"]
+    for j, lab in enumerate(labels):
+        c = colours[j % len(colours)]
+        g = np.array([np.nan if r["gain_at_angles_dbi"][j] is None else r["gain_at_angles_dbi"][j]
+                      for r in recs], dtype=float)
+        ax.plot(f, g, marker="o", ms=3, lw=1.2, color=c, label=lab)
+        sg = [r.get("system_gain_dbi") for r in recs]
+        if all(s is not None for s in sg):
+            ax.plot(f, np.array([np.nan if s[j] is None else s[j] for s in sg], dtype=float),
+                    marker="o", ms=3, lw=1.0, ls="--", color=c)
+    ax.set_title(f"{band}: antenna gain (solid), system gain (dashed)", fontsize=9)
+    ax.set_xlabel("MHz", fontsize=8)
+    ax.set_ylabel("dBi", fontsize=8)
+    ax.tick_params(labelsize=7)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=6, loc="best")
+    return fig

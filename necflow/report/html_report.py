@@ -30,7 +30,7 @@ padding:2px 6px;text-align:right} th{background:#eee} td.l,th.l{text-align:left}
 .bad{color:#b00;font-weight:bold} .muted{color:#555;font-size:9pt}
 img{max-width:100%;height:auto;display:block;margin:.5em 0}
 @media print{body{max-width:none;margin:0;font-size:9pt} h2{break-after:avoid}
-table,img{break-inside:avoid} .noprint{display:none}}
+table,img,.across{break-inside:avoid} .noprint{display:none}}
 """
 
 GENERAL_CAUTIONS = (
@@ -78,12 +78,13 @@ def _img(fig, alt: str) -> str:
     return f'<img alt="{_e(alt)}" src="data:image/png;base64,{data}">'
 
 
-def _table(head: list[str], rows: list[list[str]], left: int = 1) -> str:
+def _table(head: list[str], rows: list[list[str]], left: int = 1, cls: str = "") -> str:
     h = "".join(f'<th class="l">{c}</th>' if i < left else f"<th>{c}</th>"
                 for i, c in enumerate(head))
     body = "".join("<tr>" + "".join(f'<td class="l">{c}</td>' if i < left else f"<td>{c}</td>"
                                     for i, c in enumerate(r)) + "</tr>" for r in rows)
-    return f"<table><tr>{h}</tr>{body}</table>"
+    attr = f' class="{_e(cls)}"' if cls else ""
+    return f"<table{attr}><tr>{h}</tr>{body}</table>"
 
 
 def _summary(results: dict, report: dict) -> str:
@@ -126,6 +127,42 @@ def _band_table(results: dict, report: dict) -> str:
                      _num(r.get("efficiency"), ".0%"), agt_s]
                     + [_num(g, ".1f") for g in r.get("gain_at_angles_dbi", [])])
     return _table(head, rows)
+
+
+def _across(report: dict) -> str:
+    """Per band, the far field and the design's system gain at each frequency
+    the far field was computed at; empty when only band centres were
+    (``report.far_field: centre``)."""
+    by_band: dict[str, list[dict]] = {}
+    for r in report["far_field"]:
+        by_band.setdefault(r["band"], []).append(r)
+    if all(len(rs) < 2 for rs in by_band.values()):
+        return ""
+    labels = [e["label"] for e in report["elevations"]]
+    head = (["MHz", "peak gain dBi", "at elev. deg", "efficiency"]
+            + [f"gain dBi {_e(lab)}" for lab in labels] + ["feed loss dB"]
+            + [f"system gain dBi {_e(lab)}" for lab in labels])
+    parts = []
+    for band, rs in by_band.items():
+        rs = sorted(rs, key=lambda r: r["frequency_hz"])
+        rows = []
+        for r in rs:
+            sg = r.get("system_gain_dbi") or [None] * len(labels)
+            mhz = f"{r['frequency_hz'] / 1e6:.3f}" + (" (centre)" if r["centre"] else "")
+            rows.append([mhz, _num(r["peak_gain_dbi"], ".1f"), _num(r["peak_elevation_deg"], ".0f"),
+                         _num(r["efficiency"], ".0%")]
+                        + [_num(g, ".1f") for g in r["gain_at_angles_dbi"]]
+                        + [_num(r.get("total_loss_db"))] + [_num(g, ".1f") for g in sg])
+        parts.append(f'<div class="across"><h3>{_e(band)}</h3>'
+                     + _table(head, rows, cls="across")
+                     + _img(figures.across_figure(band, rs, labels),
+                            f"gain against frequency across {band}") + "</div>")
+    return ("<h2>Across the bands</h2>" + "".join(parts)
+            + '<p class="muted">Far field of the design at each frequency it was computed at '
+            "(band edges and centre). Feed loss: the design's feed system, from the radio's "
+            "available power to the feedpoint; system gain = antenna gain less that loss. "
+            "The plots show antenna gain (solid) and system gain (dashed) at each elevation "
+            "of interest.</p>")
 
 
 def _alternatives(report: dict) -> str:
@@ -245,6 +282,7 @@ Follow local codes, your licence conditions and licensed practice.</div>
 peak gain in the plane of the strongest lobe; gain at an elevation is the best over all
 azimuths. Average gain test: the lossless model over perfect ground (or in free space) should
 give 2.0 (1.0) within a few percent.</p>
+{_across(report)}
 <h2>Alternatives</h2>{_alternatives(report)}
 <p class="muted">System gain = antenna gain less the feed system's total loss (from the radio's
 available power to the feedpoint). The matching unit is a lossy L-network (topology chosen per

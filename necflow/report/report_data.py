@@ -192,6 +192,7 @@ def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
     z_all = np.concatenate([evaluation.system.z_feedpoint, z_c])
     alts = standard_alternatives(d, f_all, z_all)
     records = [_alternative_record(a, evaluation, n, gains) for a in alts]
+    _with_system_gain(ff, alts[0].system, f_all)
     optimised_from = None
     if study_dir is not None:
         try:
@@ -235,6 +236,26 @@ def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
         "exposure": exposure,
     }
     return _clean(doc)
+
+
+def _index_of(f_all: np.ndarray, f_hz: float) -> int:
+    """Index of ``f_hz`` among the comparison's frequencies (band edges are
+    evaluated points, centres are appended): the far field is never paired
+    with a loss interpolated from elsewhere."""
+    k = np.flatnonzero(np.isclose(f_all, f_hz, rtol=1e-12, atol=0.0))
+    if k.size == 0:
+        raise NecflowError(f"no feed-system result at {f_hz / 1e6:.6g} MHz to pair with the "
+                           "far field there")
+    return int(k[0])
+
+
+def _with_system_gain(ff: list[dict], system, f_all: np.ndarray) -> None:
+    """Add to each far-field record the design's total feed loss at its
+    frequency [dB] and the system gain at the elevations of interest [dBi]."""
+    for r in ff:
+        loss = float(system.loss_db["total"][_index_of(f_all, r["frequency_hz"])])
+        r["total_loss_db"] = loss
+        r["system_gain_dbi"] = system_gain_dbi(np.asarray(r["gain_at_angles_dbi"], float), loss)
 
 
 def write_report_data(doc: dict, folder) -> Path:
