@@ -30,11 +30,13 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Callable
 
-from necflow.errors import ConfigError, ModelError, NecflowError
+from necflow.errors import ConfigError, NecflowError
+from necflow.optimize.bookkeeping import (COUNTED, DISCARDED, FAIL_REASON, ask_owned,
+                                          counted_trials, fail_orphans, running_before)
 
-FAIL_REASON = "necflow.fail_reason"
-COUNTED = "necflow.counted"
-DISCARDED = "necflow.discarded"
+__all__ = ["COUNTED", "DISCARDED", "FAIL_REASON", "Interrupted", "StudyOptions",
+           "TrialFailure", "counted_trials", "enqueue_start", "fail_orphans", "open_study",
+           "parse_duration", "run_study", "run_trial", "worker_loop"]
 
 
 @dataclass
@@ -80,93 +82,7 @@ class Interrupted(KeyboardInterrupt):
 
 
 # ----------------------------------------------------------------------------
-# Study bookkeeping
-
-
-def _states():
-    from optuna.trial import TrialState
-    return TrialState
-
-
-def counted_trials(study) -> list:
-    """Trials that reached a verdict: COMPLETE, or FAIL of the design itself."""
-    S = _states()
-    return [t for t in study.get_trials(deepcopy=False, states=(S.COMPLETE, S.FAIL))
-            if t.state == S.COMPLETE or t.user_attrs.get(COUNTED)]
-
-
-def _alive(pid: int) -> bool:
-    try:
-        os.kill(pid, 0)
-    except ProcessLookupError:
-        return False
-    except PermissionError:
-        return True
-    return True
-
-
-def fail_orphans(study) -> int:
-    """Fail trials left RUNNING by a process that is gone; returns how many."""
-    import optuna
-
-    S = _states()
-    storage = study._storage
-    if hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval():
-        import warnings
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
-            before = len(study.get_trials(deepcopy=False, states=(S.FAIL,)))
-            optuna.storages.fail_stale_trials(study)
-            return len(study.get_trials(deepcopy=False, states=(S.FAIL,))) - before
-    host, n = socket.gethostname(), 0
-    now = time.time()
-    for t in study.get_trials(deepcopy=False, states=(S.RUNNING,)):
-        pid, thost = t.user_attrs.get("necflow.pid"), t.user_attrs.get("necflow.host")
-        started = t.datetime_start.timestamp() if t.datetime_start else now
-        dead = (pid is not None and thost == host and not _alive(int(pid))) or \
-            (pid is None and now - started > 30)
-        if dead:
-            try:
-                storage.set_trial_user_attr(t._trial_id, FAIL_REASON,
-                                            "interrupted: its worker stopped without finishing")
-                storage.set_trial_state_values(t._trial_id, S.FAIL)
-                n += 1
-            except Exception:  # another worker closed it first
-                pass
-    return n
-
-
-def _ask_owned(study, host: str, pid: int):
-    """``study.ask()``, with this process recorded as the trial's owner in the
-    very record that creates the trial, so a kill at any moment leaves no
-    RUNNING trial without an owner to check (a queued trial is popped first
-    and marked right after)."""
-    import datetime
-
-    import optuna
-    from optuna.trial import FrozenTrial
-
-    S = _states()
-    if study.get_trials(deepcopy=False, states=(S.WAITING,)):
-        trial = study.ask()
-        study._storage.set_trial_user_attr(trial._trial_id, "necflow.host", host)
-        study._storage.set_trial_user_attr(trial._trial_id, "necflow.pid", pid)
-        return trial
-    template = FrozenTrial(
-        number=-1, state=S.RUNNING, value=None, datetime_start=datetime.datetime.now(),
-        datetime_complete=None, params={}, distributions={},
-        user_attrs={"necflow.host": host, "necflow.pid": pid}, system_attrs={},
-        intermediate_values={}, trial_id=-1)
-    trial_id = study._storage.create_new_trial(study._study_id, template_trial=template)
-    if hasattr(study, "_thread_local"):
-        study._thread_local.cached_all_trials = None   # as ask() does: read storage afresh
-    return optuna.trial.Trial(study, trial_id)
-
-
-def _running_before(study, number: int) -> int:
-    S = _states()
-    return sum(1 for t in study.get_trials(deepcopy=False, states=(S.RUNNING,))
-               if t.number < number)
+# Opening a study
 
 
 def open_study(design, space, options: StudyOptions):
@@ -323,9 +239,9 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
                 return "timeout reached"
             if options.trials is not None and len(counted_trials(study)) >= options.trials:
                 return "trial budget reached"
-            trial = _ask_owned(study, host, pid)
+            trial = ask_owned(study, host, pid)
             if options.trials is not None and \
-                    len(counted_trials(study)) + _running_before(study, trial.number) \
+                    len(counted_trials(study)) + running_before(study, trial.number) \
                     >= options.trials:
                 trial.set_user_attr(DISCARDED, "the budget was filled by other workers")
                 study.tell(trial, state=TrialState.PRUNED)
