@@ -30,9 +30,9 @@ from pathlib import Path
 import numpy as np
 
 from necflow.errors import ConfigError
-from necflow.measure.types import Measurement, gamma_from_z, mag_from_swr
+from necflow.measure.types import (FREQ_UNITS, Measurement, check_frequencies, gamma_from_z,
+                                   mag_from_swr)
 
-FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
 _ROLES = {
     "frequency": {"frequency", "freq", "f"},
     "swr": {"swr", "vswr"},
@@ -168,14 +168,7 @@ def parse_csv(text: str, *, file: str = "<string>", at: str = "radio",
                                   field=names[c].strip()) from None
     rownum = [n for n, _ in data_lines]
     f = table[:, fcol] * FREQ_UNITS[unit]
-    bad = np.flatnonzero(~(f > 0))
-    if bad.size:
-        raise ConfigError("frequencies must be positive", file=file, line=rownum[bad[0]],
-                          field=fname)
-    dec = np.flatnonzero(np.diff(f) <= 0)
-    if dec.size:
-        raise ConfigError("frequencies must increase from row to row", file=file,
-                          line=rownum[dec[0] + 1], field=fname)
+    check_frequencies(f, rownum, file=file, field=fname)
 
     def col(role):
         return table[:, cols[role][0]]

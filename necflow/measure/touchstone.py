@@ -22,9 +22,8 @@ from pathlib import Path
 import numpy as np
 
 from necflow.errors import ConfigError
-from necflow.measure.types import Measurement, gamma_from_z
+from necflow.measure.types import FREQ_UNITS, Measurement, check_frequencies, gamma_from_z
 
-FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
 PARAMETERS = ("S", "Y", "Z")
 FORMATS = ("MA", "DB", "RI")
 
@@ -141,11 +140,7 @@ def parse_touchstone(text: str, *, file: str = "<string>", at: str = "radio") ->
     scale, param, fmt, r = option if option else (1e9, "S", "MA", 50.0)
     data = np.array([v for _, v in rows], dtype=float)
     f = data[:, 0] * scale
-    for (n, _), step in zip(rows[1:], np.diff(f)):
-        if not step > 0:
-            raise ConfigError("frequencies must increase from line to line", file=file, line=n)
-    if f[0] <= 0:
-        raise ConfigError("frequencies must be positive", file=file, line=rows[0][0])
+    check_frequencies(f, [n for n, _ in rows], file=file, row="line")
     value = _pair_to_complex(data[:, 1], data[:, 2], fmt)
     if param == "S":
         gamma = value

@@ -12,7 +12,34 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from necflow.errors import ConfigError
+
 LOCATIONS = ("radio", "feedpoint")
+FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}   # Hz per unit word
+
+
+def check_frequencies(f: np.ndarray, lines, *, file: str, field: str | None = None,
+                      row: str = "row") -> None:
+    """Refuse a sweep whose frequencies [Hz] are not positive and increasing.
+
+    ``lines[i]`` is the file line of ``f[i]``; the error names the first
+    point at fault (a non-positive or NaN frequency first, then one that does
+    not rise above the one before), ``row`` is what the file calls a line
+    of data ("row" or "line").
+
+    Raises
+    ------
+    ConfigError
+        One line with file, line and ``field``.
+    """
+    bad = np.flatnonzero(~(f > 0))
+    if bad.size:
+        raise ConfigError("frequencies must be positive", file=file, line=lines[bad[0]],
+                          field=field)
+    dec = np.flatnonzero(~(np.diff(f) > 0))
+    if dec.size:
+        raise ConfigError(f"frequencies must increase from {row} to {row}", file=file,
+                          line=lines[dec[0] + 1], field=field)
 
 
 def gamma_from_z(z, z_ref: float = 50.0) -> np.ndarray:

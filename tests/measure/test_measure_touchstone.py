@@ -117,6 +117,8 @@ def test_every_variant_agrees_with_scikit_rf(tmp_path, unit, param, fmt):
     ("# MHz S RI\n7.0 0.1\n", "2 numbers", 2),
     ("# MHz S RI\n7.0 0.1 zero\n", "'zero' is not a number", 2),
     ("# MHz S RI\n7.1 0.1 0.2\n7.0 0.1 0.2\n", "must increase", 3),
+    ("# MHz S RI\n0 0.1 0.2\n7.0 0.1 0.2\n", "must be positive", 2),
+    ("# MHz S RI\nnan 0.1 0.2\n", "must be positive", 2),  # float() reads 'nan'
     ("# MHz Q RI\n", "unknown option 'Q'", 1),
     ("# MHz S RI R\n7 0 0\n", "needs the reference", 1),
     ("! nothing\n", "no data lines", None),
