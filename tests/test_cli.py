@@ -154,5 +154,7 @@ def test_late_errors_name_the_design_file_and_line(tmp_path, capsys):
     code, _, err = _run(["optimize", str(path), "--trials", "1", "--out",
                          str(tmp_path / "run")], capsys)
     assert code == 2 and f"{path}:{line}:" in err and "nothere" in err
-    code, _, err = _run(["tolerance", str(path)], capsys)
-    assert code == 2 and str(path) in err and "tolerances" in err
+    bare = tmp_path / "bare.yaml"
+    bare.write_text(text.split("\ntolerances:")[0] + "\n")
+    code, _, err = _run(["tolerance", str(bare)], capsys)
+    assert code == 2 and str(bare) in err and "tolerances" in err
