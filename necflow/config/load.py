@@ -11,6 +11,7 @@ errors lives in :mod:`necflow.config.messages`.
 from __future__ import annotations
 
 import os
+import re
 from pathlib import Path
 from typing import Any
 
@@ -28,13 +29,59 @@ from necflow.errors import ConfigError, ModelError
 # YAML with line marks
 
 
+#: Plain scalars the YAML 1.2 core schema resolves to something other than
+#: text (YAML 1.2.2 spec, sec. 10.3.2, "Tag Resolution"): null, the six
+#: spellings of true/false, decimal, octal (0o) and hexadecimal (0x)
+#: integers, and floats with their infinity and not-a-number spellings.
+#: Nothing else is: no base-60 numbers (``4:1`` stays the text '4:1'), no
+#: yes/no/on/off booleans, no dates, no underscores in numbers.
+_CORE_RESOLVERS = [
+    ("tag:yaml.org,2002:null", r"^(?:~|null|Null|NULL|)$", ["~", "n", "N", ""]),
+    ("tag:yaml.org,2002:bool", r"^(?:true|True|TRUE|false|False|FALSE)$", list("tTfF")),
+    ("tag:yaml.org,2002:int", r"^(?:[-+]?[0-9]+|0o[0-7]+|0x[0-9a-fA-F]+)$",
+     list("-+0123456789")),
+    ("tag:yaml.org,2002:float",
+     r"^(?:[-+]?(?:\.[0-9]+|[0-9]+(?:\.[0-9]*)?)(?:[eE][-+]?[0-9]+)?"
+     r"|[-+]?\.(?:inf|Inf|INF)|\.(?:nan|NaN|NAN))$", list("-+.0123456789")),
+]
+
+
 class MarkedLoader(yaml.SafeLoader):
-    """Safe YAML loader that records the 1-based line of every key and item.
+    """Safe YAML loader with YAML 1.2 core-schema scalars that records the
+    1-based line of every key and item.
+
+    Plain scalars resolve by the YAML 1.2 core schema, not PyYAML's YAML 1.1
+    rules: ``ratio: 4:1`` is the text '4:1' (YAML 1.1 reads the base-60
+    integer 241), and ``yes``/``no``/``on``/``off`` are text (only
+    ``true``/``false`` are booleans).
 
     After :meth:`load_marked`, :attr:`lines` maps data paths such as
     ``('feed', 2, 'value')`` to the line where that key (or list item)
     starts.  A key given twice in one mapping is an error.
+
+    References
+    ----------
+    .. [1] YAML Ain't Markup Language, version 1.2.2 (2021), sec. 10.3
+       (core schema).
     """
+
+    yaml_implicit_resolvers: dict = {}
+
+    def construct_yaml_int(self, node: yaml.ScalarNode) -> int:
+        text = str(self.construct_scalar(node))
+        if text.startswith("0o"):
+            return int(text[2:], 8)
+        if text.startswith("0x"):
+            return int(text[2:], 16)
+        return int(text, 10)
+
+    def construct_yaml_float(self, node: yaml.ScalarNode) -> float:
+        text = str(self.construct_scalar(node)).lower()
+        if text.endswith(".inf"):
+            return float("-inf") if text.startswith("-") else float("inf")
+        if text == ".nan":
+            return float("nan")
+        return float(text)
 
     def load_marked(self) -> tuple[Any, Lines]:
         node = self.get_single_node()
@@ -72,6 +119,14 @@ class MarkedLoader(yaml.SafeLoader):
             for i, item in enumerate(node.value):
                 self.lines[path + (i,)] = item.start_mark.line + 1
                 self._mark(item, path + (i,), active)
+
+
+for _tag, _pattern, _first in _CORE_RESOLVERS:
+    MarkedLoader.add_implicit_resolver(_tag, re.compile(_pattern), _first)
+MarkedLoader.add_constructor("tag:yaml.org,2002:int", MarkedLoader.construct_yaml_int)
+MarkedLoader.add_constructor("tag:yaml.org,2002:float", MarkedLoader.construct_yaml_float)
+# The merge key ('<<') of YAML 1.1 is kept: designs may share blocks with it.
+MarkedLoader.add_implicit_resolver("tag:yaml.org,2002:merge", re.compile(r"^(?:<<)$"), ["<"])
 
 
 def _yaml_problem(exc: yaml.YAMLError) -> tuple[str, int | None]:
@@ -188,7 +243,7 @@ def load_design_text(text: str, file: str = "<string>") -> Design:
         raise ConfigError(f"expected a mapping (key: value) at the top level, got "
                           f"{describe(data)}", file=file, line=lines.get(()))
     try:
-        design = Design.model_validate(data)
+        design = Design.model_validate(data, context={"from_file": True})
     except ValidationError as exc:
         problems = translate(exc, data)
         raise first_error(problems, file, lines) from None

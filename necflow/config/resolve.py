@@ -48,12 +48,12 @@ def exact_quantity(si_value: float, dimension: str, unit: str | None = None) -> 
     return f"{float(si_value)!r} {si}"
 
 
-def _ratio_text(ratio: float) -> str | float:
+def _ratio_text(ratio: float) -> str:
     for digits in range(6, 18):
         text = f"{ratio:.{digits}g}"
         if "e" not in text and float(text) == ratio:
             return f"{text}:1"
-    return ratio  # the schema also takes a plain number
+    return f"{ratio!r}:1"
 
 
 def _position(value: tuple[str, float]) -> Any:

@@ -13,11 +13,12 @@ plane (when there is one) is z = 0.
 
 from __future__ import annotations
 
+import math
 import re
 from typing import Annotated, Any, Literal, Union
 
 from pydantic import (BaseModel, BeforeValidator, ConfigDict, Discriminator,
-                      Field, Tag, field_validator, model_validator)
+                      Field, Tag, ValidationInfo, field_validator, model_validator)
 
 from necflow import units
 from necflow.calibrate.spec import ToleranceSpec
@@ -416,16 +417,45 @@ class PartElement(Strict):
         return "series" if self.series else "shunt"
 
 
-def _ratio(v: Any) -> float:
-    if isinstance(v, (int, float)) and not isinstance(v, bool):
-        return float(v)
-    if isinstance(v, str):
-        m = re.fullmatch(r"\s*([0-9.]+)\s*:\s*([0-9.]+)\s*", v)
+#: Impedance ratios a transformer may have (antenna side : radio side); the
+#: high-ratio transformers of end-fed wires reach about 64:1 (common practice).
+RATIO_RANGE = (1.0 / 200.0, 200.0)
+_RATIO_TEXT = re.compile(r"\s*([0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?)\s*:\s*"
+                         r"([0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?)\s*")
+
+
+def _ratio(v: Any, info: ValidationInfo) -> float:
+    """An impedance ratio written as text 'A:B' (antenna side : radio side).
+
+    In a design file the ratio must be text: a plain number there is refused
+    (``ratio: 4`` could mean 4:1 or 1:4), and so is anything a YAML 1.1
+    reader would have turned into a number.  Code that sets a ratio (a
+    search, a tolerance case) may give the number antenna/radio.
+    """
+    from_file = bool(info.context and info.context.get("from_file"))
+    if isinstance(v, bool):
+        pass
+    elif isinstance(v, (int, float)):
+        if not from_file:
+            return _ratio_in_range(float(v), v)
+        raise ValueError(f"got the number {v!r}; write the ratio as text, antenna side : radio "
+                         "side, e.g. '4:1' (4 times the impedance at the antenna side)")
+    elif isinstance(v, str):
+        m = _RATIO_TEXT.fullmatch(v)
         if m:
             a, b = float(m.group(1)), float(m.group(2))
-            if a > 0 and b > 0:
-                return a / b
-    raise ValueError(f"'{v}' is not an impedance ratio; write it as '4:1' (antenna side : radio side)")
+            if a > 0 and b > 0 and math.isfinite(a) and math.isfinite(b):
+                return _ratio_in_range(a / b, v)
+    raise ValueError(f"'{v}' is not an impedance ratio; write it as '4:1' (antenna side : "
+                     "radio side)")
+
+
+def _ratio_in_range(r: float, given: Any) -> float:
+    lo, hi = RATIO_RANGE
+    if not (math.isfinite(r) and lo <= r <= hi):
+        raise ValueError(f"ratio {given} is outside 1:{1 / lo:g} to {hi:g}:1, the range of "
+                         "transformers and baluns this tool models")
+    return r
 
 
 class TransformerElement(Strict):
