@@ -164,7 +164,9 @@ def make_line_type(name: str, description: str, balanced: bool, z0: float, vf: f
                     valid_range_hz=_range(fq), notes=notes)
 
 
-def custom_line_type(z0: float, vf: float, loss_points, name: str = "custom") -> LineType:
+def custom_line_type(z0: float, vf: float, loss_points, name: str = "custom",
+                     balanced: bool = False, description: str = "line described in the design",
+                     source: str = "design file") -> LineType:
     """A line type from a design's custom line.
 
     Parameters
@@ -178,6 +180,11 @@ def custom_line_type(z0: float, vf: float, loss_points, name: str = "custom") ->
         (``necflow.config.schema.LossPoint``) or (frequency, db, per) tuples.
     name : str
         Name to show in messages.
+    balanced : bool
+        True for a two-wire line (a catalog balanced line keeps its balance
+        when a design overrides its loss figures).
+    description, source : str
+        Shown in reports.
 
     Returns
     -------
@@ -192,8 +199,7 @@ def custom_line_type(z0: float, vf: float, loss_points, name: str = "custom") ->
         else:
             fq, db, per = p.frequency, p.db, p.per
         data.append((fq, db / per * FT100_M))
-    return make_line_type(name, "line described in the design", False, z0, vf, data,
-                          source="design file")
+    return make_line_type(name, description, balanced, z0, vf, data, source=source)
 
 
 def two_wire_conductor_loss_db_per_m(f, diameter: float, z0: float,

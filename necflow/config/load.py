@@ -279,6 +279,12 @@ def _semantic_problems(design: Design) -> list[tuple[str, tuple | None]]:
         if line is not None and line != "custom" and line not in LINE_TYPES:
             out.append((f"unknown line type '{line}'; {did_you_mean(line, LINE_TYPES)}expected "
                         f"one of {', '.join(LINE_TYPES)}, or 'custom'", ("feed", i, "line")))
+    remote = design.report.tuner.remote_line
+    if remote is not None and (remote not in LINE_TYPES or LINE_TYPES[remote].balanced):
+        coax = [k for k, v in LINE_TYPES.items() if not v.balanced]
+        out.append((f"'{remote}' is not an unbalanced catalog line; "
+                    f"{did_you_mean(remote, coax)}expected one of {', '.join(coax)}",
+                    ("report", "tuner", "remote_line")))
     s = design.ground.surface
     if s is not None and s not in SURFACES:
         out.append((f"unknown ground surface '{s}'; {did_you_mean(s, SURFACES)}expected one of "

@@ -18,7 +18,8 @@ import re
 from typing import Annotated, Any, Literal, Union
 
 from pydantic import (BaseModel, BeforeValidator, ConfigDict, Discriminator,
-                      Field, Tag, ValidationInfo, field_validator, model_validator)
+                      Field, StrictBool, Tag, ValidationInfo, field_validator,
+                      model_validator)
 
 from necflow import units
 from necflow.calibrate.spec import ToleranceSpec
@@ -344,6 +345,9 @@ class LineElement(Strict):
                                           "the catalog)")
     loss: list[LossPoint] | None = Field(None, description="Matched loss at one or more "
                                          "frequencies (custom lines; overrides the catalog)")
+    balanced: StrictBool | None = Field(None, description="Whether the line is balanced (two-wire) "
+                                  "rather than coax (default: the catalog type's; false for "
+                                  "custom lines)")
     voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0,
                                               description="Peak voltage rating, for stress margins")
 
@@ -564,6 +568,12 @@ class TunerSpec(Strict):
     capacitor_q: float = Field(1000.0, gt=0, description="Unloaded Q of its capacitor")
     max_swr: float = Field(10.0, gt=1, description="Matching range: the highest SWR, "
                            "against the radio's impedance, the unit can match")
+    remote_line: str | None = Field(None, description="Unbalanced line type from the unit "
+                                    "at the feedpoint to the radio (default: the design's "
+                                    "first unbalanced line, else rg-213)")
+    remote_length: Length | None = quantity("length", default=None, gt=0,
+                                            description="Length of that run (default: the "
+                                            "total length of the design's lines)")
 
 
 class AlternativeSpec(Strict):

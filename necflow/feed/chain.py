@@ -149,21 +149,24 @@ class FeedChain:
 
 def _line_type(el, i: int) -> LineType:
     if el.line == "custom":
-        return custom_line_type(el.impedance, el.velocity_factor, el.loss, name="custom")
+        return custom_line_type(el.impedance, el.velocity_factor, el.loss, name="custom",
+                                balanced=bool(el.balanced))
     if el.line not in LINE_TYPES:
         raise ConfigError(f"unknown line type '{el.line}'; catalog types are: "
                           + ", ".join(LINE_TYPES) + ", custom", field=f"feed[{i}].line")
     base = LINE_TYPES[el.line]
-    if el.impedance is None and el.velocity_factor is None and el.loss is None:
+    balanced = base.balanced if el.balanced is None else bool(el.balanced)
+    if el.impedance is None and el.velocity_factor is None and el.loss is None \
+            and balanced == base.balanced:
         return base
+    z0 = el.impedance or base.z0
+    vf = el.velocity_factor or base.velocity_factor
     if el.loss is not None:
-        fitted = custom_line_type(el.impedance or base.z0,
-                                  el.velocity_factor or base.velocity_factor, el.loss,
-                                  name=base.name)
-        return fitted
-    return make_line_type(base.name, base.description, base.balanced,
-                          el.impedance or base.z0, el.velocity_factor or base.velocity_factor,
-                          base.data, base.source, base.notes)
+        return custom_line_type(z0, vf, el.loss, name=base.name, balanced=balanced,
+                                description=base.description + " (loss from the design file)",
+                                source="design file (loss); " + base.source)
+    return make_line_type(base.name, base.description, balanced, z0, vf, base.data,
+                          base.source, base.notes)
 
 
 def build_chain(feed: Sequence[Any], r_radio: float = 50.0) -> FeedChain:

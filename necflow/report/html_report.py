@@ -168,7 +168,9 @@ def _across(report: dict) -> str:
 def _alternatives(report: dict) -> str:
     labels = [e["label"] for e in report["elevations"]]
     alts = report["alternatives"]
-    parts = ["<ol>" + "".join(f"<li><b>{_e(a['name'])}</b>: {_e(a['description'])}</li>"
+    parts = ["<ol>" + "".join(f"<li><b>{_e(a['name'])}</b>: {_e(a['description'])}"
+                              + (f'<br><span class="muted">{_e(a["chain"])}</span>'
+                                 if a.get("chain") else "") + "</li>"
                               for a in alts) + "</ol>"]
     for i, b in enumerate(alts[0]["bands"]):
         head = ["#", "alternative", "SWR centre", "SWR max", "mismatch dB", "lines dB",

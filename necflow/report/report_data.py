@@ -133,7 +133,8 @@ def _alternative_record(alt: Alternative, evaluation, n_points: int, gains: dict
                             "inductance_h": float(t.inductance_h[c]),
                             "capacitance_f": float(t.capacitance_f[c])}
         bands.append(rec)
-    return {"name": alt.name, "description": alt.description, "bands": bands,
+    return {"name": alt.name, "description": alt.description, "chain": alt.chain,
+            "bands": bands,
             "element_kinds": {k: v.kind for k, v in s.stress.items()},
             "swr": s.swr[:n_points]}
 

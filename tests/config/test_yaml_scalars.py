@@ -118,3 +118,12 @@ def test_resolved_design_keeps_an_unquoted_ratio():
 
     data = yaml.safe_load(resolved_yaml(load_design_text(_with_ratio("4:1"))))
     assert data["feed"][2]["ratio"] == "4:1"
+
+
+@pytest.mark.parametrize("word", ["yes", "on", "y"])
+def test_a_yes_word_is_not_a_boolean_for_a_switch(word):
+    with pytest.raises(ConfigError) as info:
+        load_design_text(BASE.replace("{id: ladder, line: window-450, length: 10 m}",
+                                      f"{{id: ladder, line: window-450, length: 10 m, "
+                                      f"balanced: {word}}}"), file="d.yaml")
+    assert "feed[0].balanced: expected true or false" in str(info.value)

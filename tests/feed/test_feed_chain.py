@@ -164,3 +164,29 @@ def test_real_z0_model_of_a_line_section():
     np.testing.assert_allclose(zc, 50.0)
     np.testing.assert_allclose(gamma.real * 20 / math.log(10),
                                LINE_TYPES["rg-58"].attenuation_db_per_m(F), rtol=1e-12)
+
+
+def test_a_balanced_line_with_its_own_loss_figures_stays_balanced():
+    """A catalog two-wire line given a 'loss' override is still two-wire line
+    (it was treated as coax by the alternatives); its loss follows the figure
+    given: 0.5 dB per 100 ft at 14 MHz on a matched 30.48 m (100 ft) length,
+    that is |S21|^2 = 10^(-0.05) in the line's own impedance (Pozar sec. 2.7,
+    matched line)."""
+    el = LineElement(id="ladder", line="twin-lead-300", length="100 ft",
+                     loss=[{"frequency": "14 MHz", "db": 0.5}])
+    sec = build_chain([el]).elements[0]
+    assert LINE_TYPES["twin-lead-300"].balanced
+    assert sec.line_type.balanced
+    gamma, zc = sec.propagation(np.array([14e6]))
+    matched_loss_db = 20 * np.log10(np.exp(gamma.real * 30.48))
+    assert matched_loss_db[0] == pytest.approx(0.5, rel=1e-3)
+
+
+@pytest.mark.parametrize("line, given, expected", [
+    ("twin-lead-300", None, True), ("rg-213", None, False), ("rg-213", True, True),
+    ("custom", None, False), ("custom", True, True)])
+def test_balance_of_a_line(line, given, expected):
+    extra = {"impedance": "450 ohm", "velocity_factor": 0.9,
+             "loss": [{"frequency": "14 MHz", "db": 0.2}]} if line == "custom" else {}
+    el = LineElement(id="x", line=line, length="10 m", balanced=given, **extra)
+    assert build_chain([el]).elements[0].line_type.balanced is expected
