@@ -46,8 +46,9 @@ class ElementStress:
         ``sqrt2 |V1 - V2|``, across a shunt part ``sqrt2 |V1|``, anywhere
         along a line (differential), at either terminal of a transformer.
     i_rms : ndarray
-        RMS current [A] through a part; the larger terminal current of a
-        line or transformer.
+        RMS current [A] through a part; the largest current anywhere along
+        a line (a mismatched line's current peaks between its ends); the
+        larger terminal current of a transformer.
     p_diss_w : ndarray
         Dissipated power [W].
     p_in_w, p_out_w : ndarray
@@ -56,6 +57,8 @@ class ElementStress:
         Terminal magnitudes [V RMS], [A RMS].
     peak_position_m : ndarray or None
         Lines only: distance of the voltage peak from the antenna end [m].
+    current_position_m : ndarray or None
+        Lines only: distance of the current peak from the antenna end [m].
     """
 
     id: str
@@ -70,6 +73,7 @@ class ElementStress:
     i_rms_in: np.ndarray
     i_rms_out: np.ndarray
     peak_position_m: np.ndarray | None = None
+    current_position_m: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
@@ -229,7 +233,7 @@ def analyse(chain: FeedChain, f, z_feedpoint, z_ref: float = 50.0,
 def _stress(el, f, v1, i1, v2, i2, p_in, p_out) -> ElementStress:
     r2 = math.sqrt(2.0)
     av1, av2, ai1, ai2 = np.abs(v1), np.abs(v2), np.abs(i1), np.abs(i2)
-    pos = None
+    pos = ipos = None
     if el.kind == "series":
         v_peak, i_rms = r2 * np.abs(v1 - v2), ai1
     elif el.kind == "shunt":
@@ -237,10 +241,11 @@ def _stress(el, f, v1, i1, v2, i2, p_in, p_out) -> ElementStress:
     elif el.kind == "line":
         gamma, zc = el.propagation(f)
         vmax, pos = tl.peak_voltage(gamma, zc, v2, i2, el.length)
-        v_peak, i_rms = r2 * vmax, np.maximum(ai1, ai2)
+        imax, ipos = tl.peak_current(gamma, zc, v2, i2, el.length)
+        v_peak, i_rms = r2 * vmax, imax
     else:
         v_peak, i_rms = r2 * np.maximum(av1, av2), np.maximum(ai1, ai2)
     return ElementStress(id=el.id, kind=el.kind, v_peak=v_peak, i_rms=i_rms,
                          p_diss_w=p_in - p_out, p_in_w=p_in, p_out_w=p_out,
                          v_rms_in=av1, v_rms_out=av2, i_rms_in=ai1, i_rms_out=ai2,
-                         peak_position_m=pos)
+                         peak_position_m=pos, current_position_m=ipos)

@@ -21,8 +21,10 @@ class StressRow:
     """Worst figures of one element over the frequencies given.
 
     Voltages are peak [V], currents RMS [A], dissipation [W]; ``*_worst``
-    at the worst-case power.  ``where`` says at which frequency (and, for a
-    line, how far from the antenna end) the peak voltage occurs.  Ratings
+    at the worst-case power.  ``f_v_peak_hz`` and ``position_m`` say at
+    which frequency (and, for a line, how far from the antenna end) the peak
+    voltage occurs; ``f_i_peak_hz`` and ``i_position_m`` the same for the
+    current (a line's current peaks along it, not only at its ends).  Ratings
     are None when the design gives none; ``margin`` is rating over the
     worst-case figure (below 1: exceeded), per rating.
     """
@@ -40,6 +42,8 @@ class StressRow:
     ratings: dict
     margin: dict
     notes: tuple
+    f_i_peak_hz: float = math.nan
+    i_position_m: float | None = None
 
 
 def scale_to_power(v_peak, i_rms, p_diss, p_from: float, p_to: float):
@@ -67,6 +71,8 @@ def stress_rows(system: SystemResponse, ratings: dict, worst_power_w: float,
         k = int(np.nanargmax(v))
         vw, iw, pw = scale_to_power(v.max(), i.max(), p.max(), p0, worst_power_w)
         pos = None if st.peak_position_m is None else float(st.peak_position_m[sel][k])
+        ki = int(np.nanargmax(i))
+        ipos = None if st.current_position_m is None else float(st.current_position_m[sel][ki])
         rate = dict(ratings.get(eid, {}))
         got = {"voltage_rating": float(vw), "current_rating": float(iw),
                "power_rating": float(p_through(st, sel, p0, worst_power_w))
@@ -83,7 +89,7 @@ def stress_rows(system: SystemResponse, ratings: dict, worst_power_w: float,
                 notes.append(f"no {name.replace('_', ' ')} given")
         rows.append(StressRow(eid, st.kind, float(v.max()), float(vw), float(f[sel][k]), pos,
                               float(i.max()), float(iw), float(p.max()), float(pw), rate,
-                              margin, tuple(notes)))
+                              margin, tuple(notes), float(f[sel][ki]), ipos))
     return rows
 
 

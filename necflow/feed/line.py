@@ -180,9 +180,45 @@ def voltage_along(gamma, zc, v2, i2, z) -> np.ndarray:
             * np.sinh(gz))
 
 
-def peak_voltage(gamma, zc, v2, i2, length: float, points_per_wavelength: int = 64,
-                 refine: int = 2):
-    """Largest RMS voltage anywhere along a line and where it occurs.
+def current_along(gamma, zc, v2, i2, z) -> np.ndarray:
+    """Current at distances ``z`` from the antenna end of a line.
+
+    ``I(z) = I2 cosh(gamma z) + (V2 / Zc) sinh(gamma z)``, flowing toward
+    the antenna.  Arguments and shapes as in :func:`voltage_along`.
+
+    References
+    ----------
+    .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, sec. 2.1.
+    """
+    gz = np.asarray(gamma, dtype=complex)[:, None] * np.asarray(z, dtype=float)
+    return (np.asarray(i2, dtype=complex)[:, None] * np.cosh(gz)
+            + (np.asarray(v2, dtype=complex) / np.asarray(zc, dtype=complex))[:, None]
+            * np.sinh(gz))
+
+
+#: Sampling points per bracket of the standing-wave peak search.
+_PEAK_POINTS = 64
+
+
+def standing_wave_peak(gamma, zc, v2, i2, length: float, quantity: str = "voltage",
+                       points: int = _PEAK_POINTS, refine: int = 3):
+    """Largest RMS voltage or current anywhere along a line, and where.
+
+    The work and memory do not grow with the line's length in wavelengths.
+    With ``A = (V2 + Zc I2) / 2`` and ``B = (V2 - Zc I2) / 2`` the wave
+    solution is ``V(z) = A e^{gamma z} + B e^{-gamma z}`` and
+    ``Zc I(z) = A e^{gamma z} - B e^{-gamma z}``, so
+
+    ``|V|^2, |Zc I|^2 = E(z) +- 2 |A B*| cos(2 beta z + arg(A B*))``,
+    ``E(z) = |A|^2 e^{2 alpha z} + |B|^2 e^{-2 alpha z}``.
+
+    ``E`` is convex, so between the first and the last crest of the cosine
+    term (crests at ``z_k``, half a guided wavelength apart) no point rises
+    above ``E(z_k) + 2|A B*|`` at the outer crests: the maximum lies in
+    ``[0, z_first]`` or ``[z_last, L]``, each at most half a wavelength
+    long.  Those two brackets (the whole line when it holds no crest) are
+    sampled at ``points`` points each and refined ``refine`` times around
+    the best sample.
 
     Parameters
     ----------
@@ -190,38 +226,70 @@ def peak_voltage(gamma, zc, v2, i2, length: float, points_per_wavelength: int = 
         As in :func:`voltage_along`, ``(nfreq,)``.
     length : float
         Line length [m].
-    points_per_wavelength : int
-        Grid density: at least this many points per guided wavelength at the
-        highest frequency, and at least this many along the line.
-    refine : int
-        Passes of local refinement (each a 17-point grid between the
-        neighbours of the best point).
+    quantity : {'voltage', 'current'}
+    points, refine : int
+        Samples per bracket and local refinement passes (each a 17-point
+        grid between the neighbours of the best point).
 
     Returns
     -------
-    v_max_rms : ndarray
-        ``(nfreq,)`` [V RMS]; the peak instantaneous voltage is
+    peak_rms : ndarray
+        ``(nfreq,)`` [V RMS] or [A RMS]; the instantaneous peak is
         ``sqrt(2)`` times this.
-    z_at_max : ndarray
+    z_at_peak : ndarray
         Distance from the antenna end [m], ``(nfreq,)``.
+
+    References
+    ----------
+    .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, sec. 2.1
+       (wave solution) and 2.3 (standing wave, maxima half a wavelength apart).
     """
-    gamma = np.asarray(gamma, dtype=complex)
-    beta_max = float(np.max(np.abs(gamma.imag))) if gamma.size else 0.0
-    waves = length * beta_max / (2.0 * math.pi)
-    n = int(max(points_per_wavelength, math.ceil(points_per_wavelength * waves))) + 1
-    z = np.linspace(0.0, length, n)
-    mag = np.abs(voltage_along(gamma, zc, v2, i2, z))
+    gamma = np.atleast_1d(np.asarray(gamma, dtype=complex))
+    zc = np.broadcast_to(np.asarray(zc, dtype=complex), gamma.shape)
+    v2 = np.broadcast_to(np.asarray(v2, dtype=complex), gamma.shape)
+    i2 = np.broadcast_to(np.asarray(i2, dtype=complex), gamma.shape)
+    along = voltage_along if quantity == "voltage" else current_along
+    length = float(length)
+    a, b = (v2 + zc * i2) / 2.0, (v2 - zc * i2) / 2.0
+    beta = np.abs(gamma.imag)
+    phase = np.angle(a * b.conj()) + (0.0 if quantity == "voltage" else math.pi)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        period = np.where(beta > 0, math.pi / beta, np.inf)
+        # crests: 2 beta z + phase = 2 pi k
+        first = np.mod(-phase, 2.0 * math.pi) / (2.0 * beta)
+        last = first + np.floor((length - first) / period) * period
+    has_crest = np.isfinite(first) & (first <= length)
+    lo1 = np.zeros_like(beta)
+    hi1 = np.where(has_crest, first, length)
+    lo2 = np.where(has_crest, last, 0.0)
+    hi2 = np.full_like(beta, length)
+    t = np.linspace(0.0, 1.0, points)
+    z = np.concatenate([lo1[:, None] + (hi1 - lo1)[:, None] * t,
+                        lo2[:, None] + (hi2 - lo2)[:, None] * t], axis=1)
+    rows = np.arange(gamma.size)
+    mag = np.abs(along(gamma, zc, v2, i2, z))
     k = np.argmax(mag, axis=1)
-    best_z = z[k]
-    best = mag[np.arange(mag.shape[0]), k]
-    half = length / (n - 1)
+    best, best_z = mag[rows, k], z[rows, k]
+    half = np.maximum(hi1 - lo1, hi2 - lo2) / (points - 1)
     for _ in range(refine):
-        zz = np.clip(best_z[:, None] + np.linspace(-half, half, 17)[None, :], 0.0, length)
-        m2 = np.abs(voltage_along(gamma, zc, v2, i2, zz))
+        zz = np.clip(best_z[:, None] + half[:, None] * np.linspace(-1.0, 1.0, 17), 0.0, length)
+        m2 = np.abs(along(gamma, zc, v2, i2, zz))
         k2 = np.argmax(m2, axis=1)
-        cand = m2[np.arange(m2.shape[0]), k2]
+        cand = m2[rows, k2]
         better = cand > best
         best = np.where(better, cand, best)
-        best_z = np.where(better, zz[np.arange(zz.shape[0]), k2], best_z)
-        half /= 8.0
+        best_z = np.where(better, zz[rows, k2], best_z)
+        half = half / 8.0
     return best, best_z
+
+
+def peak_voltage(gamma, zc, v2, i2, length: float, **kw):
+    """Largest RMS voltage along a line and its distance from the antenna end
+    (:func:`standing_wave_peak` with ``quantity='voltage'``)."""
+    return standing_wave_peak(gamma, zc, v2, i2, length, "voltage", **kw)
+
+
+def peak_current(gamma, zc, v2, i2, length: float, **kw):
+    """Largest RMS current along a line and its distance from the antenna end
+    (:func:`standing_wave_peak` with ``quantity='current'``)."""
+    return standing_wave_peak(gamma, zc, v2, i2, length, "current", **kw)

@@ -208,20 +208,25 @@ def _alternatives(report: dict) -> str:
 def _stress(report: dict) -> str:
     p, pw = report["radio_power_w"], report["worst_case_power_w"]
     head = ["element", "kind", f"peak V at {p:g} W", f"peak V at {pw:g} W", "where",
-            f"RMS A at {p:g} W", f"RMS A at {pw:g} W", f"dissipation W at {p:g} W",
+            f"RMS A at {p:g} W", f"RMS A at {pw:g} W", "where", f"dissipation W at {p:g} W",
             f"dissipation W at {pw:g} W", "ratings", f"margin at {pw:g} W", "notes"]
     rows = []
     for r in report["stress"]:
         where = f"{r['f_v_peak_hz'] / 1e6:.3f} MHz"
         if r["position_m"] is not None:
             where += f", {r['position_m']:.1f} m from the antenna end"
+        i_where = "-"
+        if r.get("f_i_peak_hz") is not None:
+            i_where = f"{r['f_i_peak_hz'] / 1e6:.3f} MHz"
+            if r.get("i_position_m") is not None:
+                i_where += f", {r['i_position_m']:.1f} m from the antenna end"
         rates = ", ".join(f"{k.split('_')[0]} {v:g}" for k, v in r["ratings"].items()) or "none"
         margin = ", ".join(
             (f'<span class="bad">{k.split("_")[0]} x{v:.2f}</span>' if v is not None and v < 1
              else f"{k.split('_')[0]} x{_num(v)}") for k, v in r["margin"].items()) or "-"
         rows.append([_e(r["id"]), _e(r["kind"]), _num(r["v_peak"], ".0f"),
                      _num(r["v_peak_worst"], ".0f"), where, _num(r["i_rms"]),
-                     _num(r["i_rms_worst"]), _num(r["p_diss_w"], ".1f"),
+                     _num(r["i_rms_worst"]), i_where, _num(r["p_diss_w"], ".1f"),
                      _num(r["p_diss_worst_w"], ".1f"), _e(rates), margin,
                      _e("; ".join(r["notes"]))])
     per_band = []
