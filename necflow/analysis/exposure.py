@@ -13,7 +13,8 @@ import math
 import numpy as np
 
 #: Ground-reflection factor in power density (field doubled would be 4; 1.6^2
-#: = 2.56 is the usual cautious estimate).  From memory of FCC OET Bulletin 65.
+#: = 2.56 is the usual cautious estimate) for a gain taken from a free-space
+#: pattern.  From memory of FCC OET Bulletin 65.
 GROUND_REFLECTION_FACTOR = 2.56
 #: 1 mW/cm^2 in W/m^2.
 _MW_PER_CM2 = 10.0
@@ -63,3 +64,30 @@ def compliance_distance_m(power_w, gain_dbi, f, *,
     g = 10.0 ** (np.asarray(gain_dbi, dtype=float) / 10.0)
     p = np.asarray(power_w, dtype=float)
     return np.sqrt(reflection_factor * p * g / (4.0 * math.pi * uncontrolled_limit_w_m2(f)))
+
+
+def reflection_factor_for(pattern_over_ground: bool) -> float:
+    """The ground-reflection factor to apply to a gain from a pattern.
+
+    A pattern computed over a ground already holds the wave the ground
+    reflects (its gain is that of the antenna and its image together), so
+    the factor is 1; a free-space pattern holds no reflection, and the
+    cautious 2.56 stands in for it.  Applying both would count the
+    reflection twice (distances 1.6 times too large).
+
+    References
+    ----------
+    .. [1] From memory of FCC OET Bulletin 65, sec. 2 (the 2.56 factor is for
+       a gain without the ground's reflection).
+    """
+    return 1.0 if pattern_over_ground else GROUND_REFLECTION_FACTOR
+
+
+def exposure_basis(pattern_over_ground: bool) -> str:
+    """One sentence saying how the estimate treats the ground."""
+    if pattern_over_ground:
+        return ("the gain is the peak of the pattern computed over the design's ground, which "
+                "already holds the ground reflection, so no further reflection factor is "
+                "applied")
+    return ("the gain is from a free-space pattern, so the usual ground-reflection factor "
+            f"{GROUND_REFLECTION_FACTOR:g} is applied to the power density")

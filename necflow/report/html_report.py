@@ -129,6 +129,11 @@ def _band_table(results: dict, report: dict) -> str:
     return _table(head, rows)
 
 
+def _efficiency_note(report: dict) -> str:
+    text = report.get("efficiency_convention")
+    return f'<p class="muted">How the efficiency is made: {_e(text)}.</p>' if text else ""
+
+
 def _across(report: dict) -> str:
     """Per band, the far field and the design's system gain at each frequency
     the far field was computed at; empty when only band centres were
@@ -245,11 +250,14 @@ def _exposure(report: dict) -> str:
              _num(x["distance_worst_m"], ".1f")] for x in report["exposure"]]
     head = ["band", "MHz", "limit mW/cm2", "peak gain dBi", f"distance m at {p:g} W",
             f"distance m at {pw:g} W"]
+    basis = report.get("exposure_basis", "")
+    factor = report["exposure"][0].get("reflection_factor", 2.56) if report["exposure"] else 1
+    formula = "S = P G / (4 pi R^2)" if factor == 1 else f"S = {factor:g} P G / (4 pi R^2)"
     return (_table(head, rows) + '<p class="muted">Estimate of the distance beyond which '
             "the power density falls below the general-population (uncontrolled) limit of "
-            "47 CFR 1.1310, from S = 2.56 P G / (4 pi R^2) with the antenna's peak gain, the "
+            f"47 CFR 1.1310, from {formula} with the antenna's peak gain and the "
             f"radio's full power (duty factor {report['exposure_duty']:g}, no feed loss "
-            "deducted) and the usual ground-reflection factor. The far-field formula does not "
+            f"deducted); {_e(basis)}. The far-field formula does not "
             "hold in the reactive near field of an HF antenna, where distances this short lie; "
             "your local regulator's limits and evaluation method decide.</p>")
 
@@ -284,7 +292,7 @@ SWR limit {report['swr_limit']:g}; ground: {_e(report['ground'])}.</p>
 <div class="caution"><b>Cautions</b><ul>{cautions}{found}</ul>
 Follow local codes, your licence conditions and licensed practice.</div>
 <h2>Summary</h2>{_summary(results, report)}
-<h2>Bands</h2>{_band_table(results, report)}
+<h2>Bands</h2>{_band_table(results, report)}{_efficiency_note(report)}
 <p class="muted">Gains are power gains at each band's centre (wire and ground loss included);
 peak gain in the plane of the strongest lobe; gain at an elevation is the best over all
 azimuths. Average gain test: the lossless model over perfect ground (or in free space) should

@@ -51,3 +51,28 @@ def test_average_gain_off_by_more_than_a_few_percent_warns(evaluation):
         doc = build_report_data(evaluation, far_field_fn=flat_far_field,
                                 agt_fn=lambda m, f: np.full(len(f), 1.8))
     assert not any(r["average_gain_ok"] for r in doc["far_field"])
+
+
+def test_exposure_and_efficiency_conventions_in_the_report_data(evaluation):
+    """The demo is over a ground: the pattern's 5 dBi already holds the ground
+    reflection, so the distance is the plain far-field one.  By hand at the
+    40 m centre (7.15 MHz): limit 180 / 7.15^2 mW/cm^2 = 35.21 W/m^2,
+    G = 10^0.5 = 3.1623, R = sqrt(100 * 3.1623 / (4 pi * 35.21)) = 0.8454 m
+    (47 CFR 1.1310 Table 1; far-field S = P G / (4 pi R^2)).  The efficiency
+    is the integrated 0.8 over the stand-in average gain test's 2.01/2:
+    0.8 / 1.005 = 0.79602 (hand division)."""
+    doc = build_report_data(evaluation, far_field_fn=flat_far_field,
+                            agt_fn=lambda m, f: np.full(len(f), 2.01))
+    forty = next(x for x in doc["exposure"] if x["band"] == "40m")
+    assert forty["reflection_factor"] == 1.0
+    p = doc["radio_power_w"] * doc["exposure_duty"]
+    limit = 180.0 / (forty["frequency_hz"] / 1e6) ** 2 * 10.0
+    assert forty["distance_m"] == pytest.approx(
+        math.sqrt(p * 10 ** 0.5 / (4 * math.pi * limit)), rel=1e-12)
+    assert forty["frequency_hz"] == pytest.approx(7.15e6)
+    assert forty["distance_m"] == pytest.approx(0.8454, rel=1e-3)
+    assert "already holds the ground reflection" in doc["exposure_basis"]
+    for r in doc["far_field"]:
+        assert r["efficiency_integrated"] == 0.8
+        assert r["efficiency"] == pytest.approx(0.79602, rel=1e-4)
+    assert "lossless copy" in doc["efficiency_convention"]

@@ -10,7 +10,8 @@ import pytest
 
 from necflow.analysis import analyse
 from necflow.analysis.alternatives import remote_chain, standard_alternatives, system_gain_dbi
-from necflow.analysis.exposure import compliance_distance_m, uncontrolled_limit_w_m2
+from necflow.analysis.exposure import (compliance_distance_m, exposure_basis,
+                                      reflection_factor_for, uncontrolled_limit_w_m2)
 from necflow.analysis.stress_table import scale_to_power, stress_rows
 from necflow.config.schema import Design
 from necflow.feed import build_chain
@@ -64,14 +65,29 @@ def test_worst_case_scales_with_power_and_margins_follow_ratings():
 
 def test_exposure_distance_against_a_hand_calculation():
     # 47 CFR 1.1310 Table 1, uncontrolled, 1.34-30 MHz: 180/f^2 mW/cm^2.  At
-    # 14.0 MHz: 0.91837 mW/cm^2 = 9.1837 W/m^2.  With 100 W, 2.15 dBi (1.6406)
-    # and the ground-reflection factor 2.56 (from memory of FCC OET Bulletin 65):
+    # 14.0 MHz: 0.91837 mW/cm^2 = 9.1837 W/m^2.  With 100 W, 2.15 dBi (1.6406,
+    # a free-space gain) and the ground-reflection factor 2.56 (from memory of
+    # FCC OET Bulletin 65):
     # R = sqrt(2.56 * 100 * 1.6406 / (4 pi * 9.1837)) = sqrt(419.99 / 115.41)
     # = 1.908 m.  The hand figure is rounded to 4 digits: 1e-3.
     assert uncontrolled_limit_w_m2(14.0e6) == pytest.approx(9.1837, rel=1e-4)
     assert compliance_distance_m(100.0, 2.15, 14.0e6) == pytest.approx(1.908, rel=1e-3)
     # The table's other rows: 100 mW/cm^2 below 1.34 MHz, 0.2 above 30 MHz.
     np.testing.assert_allclose(uncontrolled_limit_w_m2([1.0e6, 50e6]), [1000.0, 2.0])
+
+
+def test_exposure_over_ground_counts_the_reflection_once():
+    # A gain read from a pattern over ground (7.97 dBi at 14.175 MHz) already
+    # holds the ground reflection.  By hand: limit 180 / 14.175^2 = 0.89583
+    # mW/cm^2 = 8.9583 W/m^2; G = 10^0.797 = 6.2661;
+    # R = sqrt(100 * 6.2661 / (4 pi * 8.9583)) = sqrt(626.61 / 112.573) = 2.359 m
+    # (with 2.56 on top it would read 3.775 m, 1.6 times too far).  Rounded
+    # hand figures: 1e-3.
+    refl = reflection_factor_for(pattern_over_ground=True)
+    assert refl == 1.0 and reflection_factor_for(False) == 2.56
+    got = compliance_distance_m(100.0, 7.97, 14.175e6, reflection_factor=refl)
+    assert got == pytest.approx(2.359, rel=1e-3)
+    assert "already holds the ground reflection" in exposure_basis(True)
 
 
 def test_system_gain_is_antenna_gain_less_total_loss():
