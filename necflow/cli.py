@@ -6,7 +6,9 @@ mapped to one line on stderr and an exit status here, and only here:
 
 ====  ==========================================================
 0     success
-1     ``check`` found a modelling rule broken at error level
+1     the job ran but its result is not what was asked: ``check`` or
+      ``evaluate`` found a modelling rule broken at error level (evaluate
+      still writes its run folder), ``trim`` reached none of its targets
 2     bad input (design file, arguments, missing files)
 3     the engine failed on a valid model
 70    an internal error (a bug: rerun with ``--debug`` and report it)
@@ -161,7 +163,7 @@ def cmd_check(args) -> int:
     for fd in findings:
         where = f" [{fd.wire}]" if getattr(fd, "wire", None) else ""
         print(f"{fd.severity}: {fd.rule}{where}: {fd.message}")
-    return 1 if any(fd.severity == "error" for fd in findings) else 0
+    return _rule_status(findings, print)
 
 
 def cmd_evaluate(args) -> int:
@@ -182,7 +184,7 @@ def cmd_evaluate(args) -> int:
     if args.json:
         json.dump(doc, sys.stdout, indent=1)
         print()
-        return 0
+        return _rule_status(evaluation.findings, lambda text: print(text, file=sys.stderr))
     console = Console(width=120, highlight=False)
     for fd in evaluation.findings:
         if fd.severity != "note":
@@ -196,6 +198,17 @@ def cmd_evaluate(args) -> int:
     if evaluation.cautions:
         console.print(SAFETY_LINE)
     console.print(f"run folder: {out}")
+    return _rule_status(evaluation.findings, console.print)
+
+
+def _rule_status(findings, say) -> int:
+    """Exit status of ``check`` and ``evaluate``: 1 when the model breaks a
+    modelling rule at error level (its results are doubtful), else 0."""
+    errors = sum(1 for fd in findings if fd.severity == "error")
+    if errors:
+        say(f"the model breaks {errors} modelling rule{'s' if errors > 1 else ''} at error "
+            "level: its results are doubtful (exit status 1)")
+        return 1
     return 0
 
 

@@ -58,6 +58,15 @@ class ModelError(NecflowError):
     exit_code = 2
 
 
+class GoalNotMet(NecflowError):
+    """The job ran and wrote its outputs, but did not reach what it was asked
+    to (for example ``trim`` reached none of its targets).  Exit status 1,
+    like ``check`` and ``evaluate`` on a model that breaks a modelling rule at
+    error level."""
+
+    exit_code = 1
+
+
 class EngineError(NecflowError):
     """The method-of-moments engine failed; the message says on what."""
 

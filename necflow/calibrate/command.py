@@ -5,8 +5,8 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from necflow import units
-from necflow.errors import ConfigError, NecflowError
+from necflow import fileio, units
+from necflow.errors import ConfigError, GoalNotMet, NecflowError
 
 
 def add_parsers(sub) -> None:
@@ -95,10 +95,10 @@ def run_fit(args) -> int:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise NecflowError(f"cannot create output folder {out}: {exc.strerror}") from None
-    (out / "design.calibrated.yaml").write_text(resolved_yaml(result.design), encoding="utf-8")
-    overlay_figure(sweeps, model, calibrated_mags=calibrated,
-                   title=f"{design.name}: model and measurement").savefig(out / "overlay.png",
-                                                                           dpi=110)
+    fileio.write_text(out / "design.calibrated.yaml", resolved_yaml(result.design))
+    fileio.save_figure(overlay_figure(sweeps, model, calibrated_mags=calibrated,
+                                      title=f"{design.name}: model and measurement"),
+                       out / "overlay.png", dpi=110)
     print(f"{design.name}: fitted {len(params)} field(s) to {len(sweeps)} sweep(s) "
           f"({'complex reflection' if result.complex_data else 'SWR magnitude only'}), "
           f"{result.solves} antenna solves")
@@ -150,7 +150,8 @@ def run_trim(args) -> int:
     for b in r.before:
         print(_band_line(b))
     if not r.steps:
-        print("no change needed: every target is already met")
+        print("no change proposed: no adjustable field brings a target closer"
+              if r.unreachable else "no change needed: every target is already met")
     for i, s in enumerate(r.steps, start=1):
         print(f"step {i}: {s.text}")
         for b in s.bands:
@@ -166,8 +167,12 @@ def run_trim(args) -> int:
     for w in r.warnings:
         print(f"warning: {w}")
     if args.write:
-        Path(args.write).write_text(resolved_yaml(r.design), encoding="utf-8")
+        fileio.write_text(args.write, resolved_yaml(r.design))
         print(f"trimmed design: {args.write}")
+    if r.targets and all(t.band.name in r.unreachable for t in r.targets):
+        raise GoalNotMet("no targeted band was reached ("
+                         + ", ".join(t.band.name for t in r.targets) + "); see 'cannot reach' "
+                         "above for why")
     return 0
 
 
@@ -195,8 +200,9 @@ def run_tolerance(args) -> int:
         print("yield: share of cases within the SWR limit across the whole band; within: "
               "mean share of the band's points within it")
     if args.plot:
-        tolerance_figure(r, title=f"{design.name}: tolerance, {r.swr.shape[0]} cases, "
-                         f"seed {r.seed}").savefig(args.plot, dpi=110)
+        fileio.save_figure(tolerance_figure(r, title=f"{design.name}: tolerance, "
+                                            f"{r.swr.shape[0]} cases, seed {r.seed}"),
+                           args.plot, dpi=110)
         if not args.json:
             print(f"plot: {args.plot}")
     return 0

@@ -148,9 +148,11 @@ class TrimResult:
     solves: int
 
 
-def default_adjustable(design: Design) -> dict[str, SearchParam]:
-    """The antenna's length (+-10 %), each balanced matching section's length
-    (+-25 %) and each capacitor or inductor (/3 .. x3)."""
+def suggested_adjustable(design: Design) -> dict[str, SearchParam]:
+    """Fields a builder usually trims, for the message that asks for an
+    ``adjustable`` section: the antenna's length (+-10 %), each balanced
+    matching section's length (+-25 %) and each capacitor or inductor
+    (/3 .. x3).  Never used without the user naming them."""
     out: dict[str, SearchParam] = {}
     a = design.antenna
     for name in ("span", "leg"):
@@ -271,8 +273,9 @@ def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None
     targets : dict
         Band name -> frequency text or ``centre``.
     adjustable : dict of SearchParam, optional
-        Default: the design's ``adjustable`` section, else
-        :func:`default_adjustable`.
+        Default: the design's ``adjustable`` section.  With neither, nothing
+        is chosen behind the user's back: a ConfigError names fields to
+        consider (as ``fit`` and ``tolerance`` refuse without their sections).
     seed : int
         Seed of the extra starting points.
     responder : Responder, optional
@@ -283,11 +286,14 @@ def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None
     from necflow.optimize.evaluator import evaluate_cached
 
     tlist = resolve_targets(design, targets)
-    section = adjustable if adjustable else (design.adjustable or default_adjustable(design))
+    section = adjustable if adjustable else design.adjustable
     params = build_params(design, section, key="adjustable")
     if not params:
-        raise ConfigError("nothing to adjust: name fields in the design's 'adjustable' "
-                          "section or with --adjust PATH=LOW,HIGH", field="adjustable")
+        hint = ", ".join(suggested_adjustable(design))
+        raise ConfigError("nothing to adjust: name the fields to trim in the design's "
+                          "'adjustable' section or with --adjust PATH=LOW,HIGH"
+                          + (f" (fields builders usually trim here: {hint})" if hint else ""),
+                          field="adjustable")
     responder = responder or Responder(design)
     cont = [p for p in params if p.choices is None]
     start = {p.path: float(current_value(design, p.path)) for p in params}

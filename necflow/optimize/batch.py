@@ -29,6 +29,7 @@ from typing import Any, Literal
 import yaml
 from pydantic import BaseModel, ConfigDict, Field, ValidationError
 
+from necflow import fileio
 from necflow.errors import ConfigError
 
 
@@ -158,7 +159,7 @@ def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
     from necflow.optimize.evaluator import ResponseCache, score_design
 
     folder.mkdir(parents=True, exist_ok=True)
-    (folder / "design.yaml").write_text(text, encoding="utf-8")
+    fileio.write_text(folder / "design.yaml", text)
     design = load_design_text(text, file=str(folder / "design.yaml"))
     summary: dict[str, Any] = {"cell": cid, "overrides": over}
     if spec.mode == "evaluate":
@@ -183,9 +184,7 @@ def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
         summary["best_params"] = res.best_trial.params
     summary.update({"cost": sc.cost, "worst_swr": sc.worst_swr, "loss_db": sc.loss_db,
                     "bands": sc.bands})
-    tmp = folder / "cell.json.tmp"
-    tmp.write_text(json.dumps(summary, indent=1, default=str) + "\n", encoding="utf-8")
-    os.replace(tmp, folder / "cell.json")
+    fileio.write_json(folder / "cell.json", summary)
     return summary
 
 
@@ -245,7 +244,7 @@ def write_summary(spec: BatchSpec, summaries: list[dict], out: Path) -> None:
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(head)
     w.writerows(rows)
-    (out / "summary.csv").write_text(buf.getvalue(), encoding="utf-8")
+    fileio.write_text(out / "summary.csv", buf.getvalue())
     import matplotlib
     matplotlib.use("Agg", force=False)
     from matplotlib.figure import Figure
@@ -259,7 +258,7 @@ def write_summary(spec: BatchSpec, summaries: list[dict], out: Path) -> None:
     ax2.set_ylabel("worst SWR")
     ax2.set_xlabel("cell (see summary.csv)")
     fig.suptitle(f"batch {spec.name}: {spec.mode}")
-    fig.savefig(out / "summary.png", dpi=100)
+    fileio.save_figure(fig, out / "summary.png", dpi=100)
 
 
 def run_batch_command(args, out, err) -> int:

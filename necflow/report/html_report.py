@@ -14,6 +14,7 @@ from datetime import datetime, timezone
 from html import escape
 from pathlib import Path
 
+from necflow import fileio
 from necflow.errors import ConfigError
 from necflow.report import figures
 from necflow.report.report_data import read_report_data
@@ -332,5 +333,5 @@ def write_report(folder) -> Path:
     report = read_report_data(folder)
     manifest = _read(folder / "manifest.json") if (folder / "manifest.json").exists() else {}
     path = folder / FILE_NAME
-    path.write_text(render_html(results, report, manifest), encoding="utf-8")
+    fileio.write_text(path, render_html(results, report, manifest))
     return path

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from necflow import fileio
+
 
 def swr_figure(evaluation):
     """SWR at the radio against frequency, one panel per band, the limit drawn.
@@ -47,4 +49,4 @@ def swr_figure(evaluation):
 
 
 def save_swr_png(evaluation, path) -> None:
-    swr_figure(evaluation).savefig(path, dpi=110)
+    fileio.save_figure(swr_figure(evaluation), path, dpi=110)

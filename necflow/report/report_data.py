@@ -18,6 +18,7 @@ from typing import Any, Callable
 
 import numpy as np
 
+from necflow import fileio
 from necflow.analysis.alternatives import (Alternative, optimised_alternative,
                                            standard_alternatives, system_gain_dbi)
 from necflow.analysis.exposure import (compliance_distance_m, exposure_basis,
@@ -273,7 +274,7 @@ def _with_system_gain(ff: list[dict], system, f_all: np.ndarray) -> None:
 
 def write_report_data(doc: dict, folder) -> Path:
     path = Path(folder) / FILE_NAME
-    path.write_text(json.dumps(doc, indent=1, allow_nan=False) + "\n", encoding="utf-8")
+    fileio.write_json(path, doc)
     return path
 
 

@@ -14,6 +14,7 @@ from typing import Any
 
 import numpy as np
 
+from necflow import fileio
 from necflow import __version__
 
 POINT_KEYS = ("band", "frequency_hz", "z_feedpoint_ohm", "z_radio_ohm", "swr",
@@ -94,9 +95,9 @@ def results_document(evaluation, *, config_sha256: str) -> dict[str, Any]:
 
 
 def write_json(doc: dict[str, Any], path) -> None:
-    with open(path, "w", encoding="utf-8") as fh:
-        json.dump(doc, fh, indent=1, allow_nan=False, default=str)
-        fh.write("\n")
+    """Write ``results.json`` atomically; non-finite numbers (an infinite SWR
+    into a purely reactive load) become null."""
+    fileio.write_json(path, doc)
 
 
 def csv_text(doc: dict[str, Any]) -> str:

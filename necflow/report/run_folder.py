@@ -15,6 +15,7 @@ from datetime import datetime, timezone
 from importlib import metadata
 from pathlib import Path
 
+from necflow import fileio
 from necflow import __version__
 
 
@@ -58,7 +59,7 @@ def write_manifest(folder: Path, *, config_sha256: str, config_path: str,
         "seconds": round((finished - started).total_seconds(), 3),
     }
     doc.update(extra or {})
-    (folder / "manifest.json").write_text(json.dumps(doc, indent=1) + "\n", encoding="utf-8")
+    fileio.write_json(folder / "manifest.json", doc)
     return doc
 
 
@@ -88,10 +89,9 @@ def write_run_folder(evaluation, folder: Path, *, config_path: str, started: dat
                           field="--out") from None
     sha = config_sha256(Path(config_path))
     doc = results.results_document(evaluation, config_sha256=sha)
-    (folder / "design.resolved.yaml").write_text(resolved_yaml(evaluation.design),
-                                                 encoding="utf-8")
+    fileio.write_text(folder / "design.resolved.yaml", resolved_yaml(evaluation.design))
     results.write_json(doc, folder / "results.json")
-    (folder / "results.csv").write_text(results.csv_text(doc), encoding="utf-8")
+    fileio.write_text(folder / "results.csv", results.csv_text(doc))
     save_swr_png(evaluation, folder / "swr.png")
     write_report_inputs(evaluation, folder, config_sha256=sha, study_dir=study_dir)
     write_manifest(folder, config_sha256=sha, config_path=str(config_path), started=started,

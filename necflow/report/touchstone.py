@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from necflow import fileio
 import numpy as np
 
 #: File names in the run folder, by position.
@@ -42,7 +43,7 @@ def write_s1p(folder, f, z_feedpoint, z_radio, z_ref: float) -> dict[str, Path]:
         text = net.write_touchstone(return_string=True, form="ri", skrf_comment=False)
         head = (f"! necflow: impedance at the {pos}, S11 against {z_ref:g} ohm, "
                 "frequency in Hz\n")
-        path.write_text(head + text, encoding="utf-8")
+        fileio.write_text(path, head + text)
         out[pos] = path
     return out
 

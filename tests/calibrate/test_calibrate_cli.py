@@ -8,7 +8,8 @@ import pytest
 
 from necflow.cli import main
 
-MEASURED = Path(__file__).resolve().parents[2] / "configs" / "measured"
+CONFIGS = Path(__file__).resolve().parents[2] / "configs"
+MEASURED = CONFIGS / "measured"
 DESIGN = str(MEASURED / "field-doublet.yaml")
 
 
@@ -68,3 +69,58 @@ def test_tolerance_prints_yield_and_repeats(tmp_path, capsys):
     first = capsys.readouterr().out
     assert main(argv + ["--plot", str(tmp_path / "t.png")]) == 0
     assert capsys.readouterr().out == first and '"yield"' in first
+
+
+def _design_without(tmp_path, section):
+    """The field doublet with one of its job sections removed."""
+    text = (CONFIGS / "measured" / "field-doublet.yaml").read_text(encoding="utf-8")
+    kept = []
+    skip = False
+    for line in text.splitlines():
+        if line.startswith(f"{section}:"):
+            skip = True
+            if "{" in line:          # a one-line flow mapping
+                skip = False
+            continue
+        if skip and line.startswith("  "):
+            continue
+        skip = False
+        kept.append(line)
+    p = tmp_path / "d.yaml"
+    p.write_text("\n".join(kept) + "\n", encoding="utf-8")
+    return p
+
+
+@pytest.mark.parametrize("command, section, phrase", [
+    ("trim", "adjustable", "nothing to adjust"),
+    ("fit", "uncertain", "nothing to fit")])
+def test_trim_and_fit_refuse_alike_without_their_section(command, section, phrase, tmp_path,
+                                                          capsys):
+    """trim chose the span and the ladder behind the user's back; now it
+    refuses like fit does, exit 2, and names fields to consider."""
+    design = _design_without(tmp_path, section)
+    argv = [command, str(design)]
+    if command == "fit":
+        argv.append(str(CONFIGS / "measured" / "field-doublet-radio.s1p"))
+    code = main(argv)
+    err = capsys.readouterr().err
+    assert code == 2 and phrase in err and f": {section}:" in err, err
+    assert len(err.strip().splitlines()) == 1
+    if command == "trim":
+        assert "antenna.span" in err
+
+
+@pytest.mark.engine
+def test_trim_exits_1_when_no_target_is_reached(tmp_path, capsys):
+    """Only the coax length may change and it cannot move the antenna's SWR
+    minimum (7.06 MHz) to 7.25 MHz, 2.7 % away, through a 1:1 balun (its
+    dip at the radio stays where the antenna's is; common practice): every
+    target unreachable, so exit status 1 after the advice is printed."""
+    design = CONFIGS / "measured" / "field-doublet.yaml"
+    code = main(["trim", str(design), "--target", "40m=7.25 MHz",
+                 "--adjust", "feed.coax.length=15 m,15.2 m"])
+    out, err = capsys.readouterr()
+    assert code == 1, err
+    assert "cannot reach 40m" in out
+    assert "no targeted band was reached" in err
+    assert "already met" not in out
