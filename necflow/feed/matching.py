@@ -329,9 +329,11 @@ def tune_l_network(f, z_load, r_source: float = 50.0, *, q_inductor: float = 100
     Every load with positive resistance has a lossless one: if
     ``R_L < R0`` the series-at-load pair of [1]_ exists and one of its two
     signs has parts of different kinds, and otherwise ``G_L < 1/R0`` and
-    the same holds for the shunt-at-load pair.  Very lossy parts on a very
-    low resistance can leave none (the series part's ESR alone would exceed
-    R0): the unit then cannot match.
+    the same holds for the shunt-at-load pair.  A load without resistance
+    takes no power and has none; wherever no network matches, the unit
+    cannot match.  Lossy parts usually still leave a network, at a loss:
+    the matching range (``max_swr``) is what keeps the unit from absurd
+    losses.
 
     With a lossless capacitor and an inductor of unloaded Q ``Q_U`` the loss
     is close to ``10 log10(1 + Q_L / Q_U)``, ``Q_L = sqrt(R_high / R_low - 1)``
@@ -377,7 +379,7 @@ def _tune(f, zl, r0, q_l, q_c, max_swr, id) -> MatchingUnit:
     w = 2.0 * math.pi * f
     ind = np.where(lp, xb / w, -1.0 / (w * bb))   # low-pass: series L; high-pass: shunt L
     cap = np.where(lp, bb / w, -1.0 / (w * xb))
-    names = np.array([TOPOLOGIES[(bool(lo), bool(sh))] for lo, sh in zip(lp, lb)], dtype="U32")
+    names = np.array([TOPOLOGIES[t] for t in TOPOLOGY_ORDER])[best // 2]
     return MatchingUnit(
         id=id, f=f,
         matrices=np.where(tuned[:, None, None], mats_c[pick], twoport.identity(n)),

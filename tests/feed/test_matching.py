@@ -155,10 +155,11 @@ def test_capacitive_load_15_minus_j300():
     # root-finder here gives 0.8553 dB (series 13.57 uH at the load, shunt
     # 1105 pF at the source); the only other one-coil-one-capacitor network
     # (high-pass, shunt at load) loses more.  A network of two coils would
-    # lose less (0.79 dB) but is no L-network of one coil and one capacitor.
+    # lose less (0.79 dB) but is not one coil and one capacitor.
     m, exact = assert_matches_exact(15 - 300j, 100.0, 1000.0)
     assert exact[0][0] == pytest.approx(0.855, abs=0.001)
     assert len(exact) == 2 and exact[1][0] > exact[0][0]
+    assert exact[1][1] == "high-pass, shunt at load"     # 1.267 dB
     assert m.topology[0] == "low-pass, shunt at source"
     assert m.series_part[0] == "inductor"
     assert m.inductance_h[0] == pytest.approx(13.57e-6, rel=1e-3)
@@ -255,7 +256,8 @@ def test_out_of_range_load_is_a_through_connection():
     # unit then passes the load unchanged and loses nothing.
     m = tune_l_network([7e6, 7e6], [1000.0, 150.0], R0, max_swr=10.0)
     assert list(m.can_match) == [False, True]
-    assert m.topology[0] == "" and np.isnan(m.inductance_h[0]) and np.isnan(m.capacitance_f[0])
+    assert m.topology[0] == ""
+    assert np.isnan(m.inductance_h[0]) and np.isnan(m.capacitance_f[0])
     assert twoport.input_impedance(m.matrices, [1000.0, 150.0])[0] == pytest.approx(1000.0)
     assert m.loss_db[0] == 0.0
 
