@@ -197,6 +197,9 @@ def _alternatives(report: dict) -> str:
                 t = d["tuner"]
                 note = (f"{_e(t['topology'])}" if t["can_match_centre"]
                         else '<span class="bad">cannot match</span>')
+                if t["can_match_centre"] and t["topology"] != "through":
+                    note += (f": L {_num(t['inductance_h'] * 1e6)} uH, "
+                             f"C {_num(t['capacitance_f'] * 1e12, '.1f')} pF")
                 if t["can_match_centre"] and not t["can_match_all"]:
                     note += "; not across the whole band"
             sg = d["system_gain_dbi"] or [None] * len(labels)
@@ -301,8 +304,10 @@ give 2.0 (1.0) within a few percent.</p>
 {_across(report)}
 <h2>Alternatives</h2>{_alternatives(report)}
 <p class="muted">System gain = antenna gain less the feed system's total loss (from the radio's
-available power to the feedpoint). The matching unit is a lossy L-network (topology chosen per
-frequency) within its matching range.</p>
+available power to the feedpoint). The matching unit is a lossy L-network of one coil and one
+capacitor (low-pass or high-pass, shunt part at the load or at the source, chosen per frequency
+for the least loss) within its matching range; the note gives its part values at the band's
+centre.</p>
 <h2>SWR</h2>{_img(figures.swr_figure(results, report), "SWR at the radio per band")}
 <h2>Impedance</h2>{_img(figures.smith_figure(results), "Smith charts")}
 <h2>Loss budget</h2>{_img(figures.loss_figure(report), "stacked loss per alternative")}
