@@ -136,8 +136,8 @@ def test_remote_unit_drives_one_run_of_the_designs_coax():
     alts = {a.name: a for a in standard_alternatives(_doublet_80m(), F80, Z80)}
     remote = alts["matching unit at the feedpoint"]
     assert remote.system.element_ids == ("matching unit", "coax")
-    assert remote.chain == ("antenna -> matching unit: lossy L-network -> coax: rg-8x "
-                            "(unbalanced), 45 m -> radio")
+    assert remote.chain.startswith("antenna -> matching unit: lossy L-network")
+    assert remote.chain.endswith(" -> coax: rg-8x (unbalanced), 45 m -> radio")
     # No series part in this design: no 'without series parts' row.
     assert list(alts) == ["as designed", "matching unit at the radio",
                           "matching unit at the feedpoint"]
