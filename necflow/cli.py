@@ -6,9 +6,9 @@ mapped to one line on stderr and an exit status here, and only here:
 
 ====  ==========================================================
 0     success
-1     the job ran but its result is not what was asked: ``check`` or
-      ``evaluate`` found a modelling rule broken at error level (evaluate
-      still writes its run folder), ``trim`` reached none of its targets
+1     the job cannot give what was asked: ``check`` found a modelling rule
+      broken at error level, and ``evaluate`` refuses to solve such a model
+      (the same rule); ``trim`` reached none of its targets
 2     bad input (design file, arguments, missing files)
 3     the engine failed on a valid model
 70    an internal error (a bug: rerun with ``--debug`` and report it)
@@ -26,7 +26,7 @@ import warnings
 from pathlib import Path
 
 from necflow import __version__
-from necflow.errors import ConfigError, NecflowError, NecflowWarning
+from necflow.errors import ConfigError, NecflowError, NecflowWarning, RulesBroken
 
 SAFETY_LINE = ("caution: high RF voltages appear on series capacitors and open-wire line; "
                "keep antennas clear of power lines, mind RF exposure and lightning, and "
@@ -176,7 +176,14 @@ def cmd_evaluate(args) -> int:
 
     started = run_folder.now_utc()
     design = load_design(args.design)
-    evaluation = evaluate(design)
+    try:
+        evaluation = evaluate(design, refuse_broken_rules=True)
+    except RulesBroken as exc:
+        for fd in exc.findings:
+            if fd.severity == "error":
+                where = f" [{fd.wire}]" if getattr(fd, "wire", None) else ""
+                print(f"{fd.severity}: {fd.rule}{where}: {fd.message}")
+        raise
     out = Path(args.out) if args.out else run_folder.default_run_dir(design.name)
     doc = run_folder.write_run_folder(evaluation, out, config_path=str(args.design),
                                       started=started, argv=["necflow", *sys.argv[1:]],
@@ -184,7 +191,7 @@ def cmd_evaluate(args) -> int:
     if args.json:
         json.dump(doc, sys.stdout, indent=1)
         print()
-        return _rule_status(evaluation.findings, lambda text: print(text, file=sys.stderr))
+        return 0
     console = Console(width=120, highlight=False)
     for fd in evaluation.findings:
         if fd.severity != "note":
@@ -198,16 +205,16 @@ def cmd_evaluate(args) -> int:
     if evaluation.cautions:
         console.print(SAFETY_LINE)
     console.print(f"run folder: {out}")
-    return _rule_status(evaluation.findings, console.print)
+    return 0
 
 
 def _rule_status(findings, say) -> int:
-    """Exit status of ``check`` and ``evaluate``: 1 when the model breaks a
-    modelling rule at error level (its results are doubtful), else 0."""
+    """Exit status of ``check``: 1 when the model breaks a modelling rule at
+    error level (``evaluate`` then refuses to solve it), else 0."""
     errors = sum(1 for fd in findings if fd.severity == "error")
     if errors:
         say(f"the model breaks {errors} modelling rule{'s' if errors > 1 else ''} at error "
-            "level: its results are doubtful (exit status 1)")
+            "level: 'necflow evaluate' will not solve it (exit status 1)")
         return 1
     return 0
 

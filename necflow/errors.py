@@ -67,6 +67,21 @@ class GoalNotMet(NecflowError):
     exit_code = 1
 
 
+class RulesBroken(GoalNotMet):
+    """The model breaks a modelling rule at error level: its results would be
+    doubtful (or the engine cannot load it), so it is not solved.
+
+    Attributes
+    ----------
+    findings : list
+        Every finding of the rule check (errors, warnings, notes).
+    """
+
+    def __init__(self, message: str, findings: list):
+        self.findings = findings
+        super().__init__(message)
+
+
 class EngineError(NecflowError):
     """The method-of-moments engine failed; the message says on what."""
 

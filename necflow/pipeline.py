@@ -14,6 +14,7 @@ from typing import Callable
 
 import numpy as np
 
+from necflow.errors import RulesBroken
 from necflow.catalog.bands import Band, resolve_bands
 from necflow.config.schema import Design
 
@@ -104,7 +105,8 @@ def feedpoint_response(model, frequency_hz: np.ndarray, solver: Solver | None = 
     return z[inverse]
 
 
-def evaluate(design: Design, *, solver: Solver | None = None) -> Evaluation:
+def evaluate(design: Design, *, solver: Solver | None = None,
+             refuse_broken_rules: bool = False) -> Evaluation:
     """Evaluate a validated design over its bands.
 
     Parameters
@@ -114,6 +116,10 @@ def evaluate(design: Design, *, solver: Solver | None = None) -> Evaluation:
     solver : callable, optional
         ``solver(model, frequency_hz) -> z_feedpoint``; defaults to the
         PyNEC adapter.  Tests pass stored responses here.
+    refuse_broken_rules : bool
+        Raise :class:`~necflow.errors.RulesBroken` before solving when the
+        model breaks a modelling rule at error level (``necflow evaluate``
+        does, as ``necflow check`` reports them).
     """
     from necflow.analysis import analyse, cautions as find_cautions
     from necflow.feed import build_chain
@@ -124,6 +130,12 @@ def evaluate(design: Design, *, solver: Solver | None = None) -> Evaluation:
     f_min, f_max = float(f.min()), float(f.max())
     model = build_model(design, f_max)
     findings = check_rules(model, design, f_min, f_max)
+    errors = [fd for fd in findings if fd.severity == "error"]
+    if refuse_broken_rules and errors:
+        raise RulesBroken(f"the model breaks {len(errors)} modelling rule"
+                          f"{'s' if len(errors) > 1 else ''} at error level and is not "
+                          "solved: its results would be doubtful; 'necflow check' lists them",
+                          findings)
     chain = build_chain(design.feed, r_radio=design.radio.impedance)
     z_feed = feedpoint_response(model, f, solver)
     system = analyse(chain, f, z_feed, z_ref=design.radio.impedance,

@@ -39,6 +39,12 @@ def registry() -> pint.UnitRegistry:
 
 
 _NUMBER = re.compile(r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$")
+#: A number and a unit, nothing else: the unit parser evaluates arithmetic
+#: (``9**9**9 m`` would never finish), so only this form reaches it.
+_QUANTITY = re.compile(r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d{1,4})?\s*"
+                       r"[A-Za-z][A-Za-z0-9_]*(\s*/\s*[A-Za-z][A-Za-z0-9_]*)?\s*$")
+#: Longest text read as a quantity.
+_MAX_TEXT = 64
 
 
 class UnitError(ValueError):
@@ -84,9 +90,15 @@ def parse(value: object, dimension: str) -> float:
         raise UnitError(f"'{value}' has no unit; expected {_a(dimension)} with a unit, e.g. '{example}'")
     if not isinstance(value, str):
         raise UnitError(f"expected {_a(dimension)} with a unit as text, e.g. '{example}'")
+    if len(value) > _MAX_TEXT:
+        raise UnitError(f"a value of {len(value)} characters is not {_a(dimension)}; expected "
+                        f"e.g. '{example}'")
     text = _normalise(value)
     if _NUMBER.match(text):
         raise UnitError(f"'{value}' has no unit; expected {_a(dimension)} with a unit, e.g. '{example}'")
+    if not _QUANTITY.match(text):
+        raise UnitError(f"cannot read '{value}' as {_a(dimension)}; expected a number and a "
+                        f"unit, e.g. '{example}'")
     ureg = registry()
     try:
         q = ureg.Quantity(text)

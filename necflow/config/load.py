@@ -22,6 +22,7 @@ from necflow.config.messages import (Lines, describe, did_you_mean, first_error,
                                      parse_path, path_text, translate)
 from necflow.config.messages import is_model, union_tags  # noqa: F401  (re-exported)
 from necflow.config.schema import Design
+from necflow import limits
 from necflow.errors import ConfigError, ModelError
 
 
@@ -46,7 +47,18 @@ _CORE_RESOLVERS = [
 ]
 
 
-class MarkedLoader(yaml.SafeLoader):
+#: The C parser (libyaml) when PyYAML has it: the document is composed about
+#: eight times faster, which bounds the time a huge file costs before the
+#: size checks refuse it.  Resolution and construction stay in Python.
+try:
+    from yaml.cyaml import CParser as _Parser
+except ImportError:  # PyYAML built without libyaml
+    _Parser = None
+_Bases = ((_Parser, yaml.constructor.SafeConstructor, yaml.resolver.Resolver)
+          if _Parser is not None else (yaml.SafeLoader,))
+
+
+class MarkedLoader(*_Bases):  # type: ignore[misc]
     """Safe YAML loader with YAML 1.2 core-schema scalars that records the
     1-based line of every key and item.
 
@@ -66,6 +78,14 @@ class MarkedLoader(yaml.SafeLoader):
     """
 
     yaml_implicit_resolvers: dict = {}
+
+    def __init__(self, stream) -> None:
+        if _Parser is None:
+            yaml.SafeLoader.__init__(self, stream)
+            return
+        _Parser.__init__(self, stream)
+        yaml.constructor.SafeConstructor.__init__(self)
+        yaml.resolver.Resolver.__init__(self)
 
     def construct_yaml_int(self, node: yaml.ScalarNode) -> int:
         text = str(self.construct_scalar(node))
@@ -88,6 +108,7 @@ class MarkedLoader(yaml.SafeLoader):
         self.lines: Lines = {}
         if node is None:
             return None, self.lines
+        _check_size(node)
         self.lines[()] = node.start_mark.line + 1
         self._mark(node, (), set())
         return self.construct_document(node), self.lines
@@ -129,6 +150,63 @@ MarkedLoader.add_constructor("tag:yaml.org,2002:float", MarkedLoader.construct_y
 MarkedLoader.add_implicit_resolver("tag:yaml.org,2002:merge", re.compile(r"^(?:<<)$"), ["<"])
 
 
+#: Control characters no design value may hold (tab, newline and carriage
+#: return are fine in YAML text).
+_CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
+
+
+def _check_size(root: yaml.Node) -> None:
+    """Refuse a document too large or too deep once its aliases are expanded.
+
+    Counts the nodes every walk of the data would visit (an alias counts as
+    a copy of what it names), memoised per node so the count costs one pass
+    over the distinct nodes however large the expansion; a node that
+    contains itself through an alias is refused as well.  Raised before any
+    walk of the expanded data.
+    """
+    size: dict[int, int] = {}
+    depth: dict[int, int] = {}
+    busy: set[int] = set()
+    stack: list[tuple[yaml.Node, bool]] = [(root, False)]
+    while stack:
+        node, done = stack.pop()
+        key = id(node)
+        if done:
+            busy.discard(key)
+            kids = _children(node)
+            size[key] = min(1 + sum(size[id(k)] for k in kids), limits.MAX_YAML_NODES + 1)
+            depth[key] = 1 + max((depth[id(k)] for k in kids), default=0)
+            continue
+        if key in size:
+            continue
+        if isinstance(node, yaml.ScalarNode) and _CONTROL.search(node.value):
+            bad = _CONTROL.search(node.value).group()
+            raise ConfigError(f"a value holds the control character U+{ord(bad):04X}; expected "
+                              "printable text", line=node.start_mark.line + 1)
+        if key in busy:
+            raise ConfigError("the document refers to itself through an alias (a recursive "
+                              "anchor); expected plain data", line=node.start_mark.line + 1)
+        busy.add(key)
+        stack.append((node, True))
+        stack.extend((k, False) for k in _children(node) if id(k) not in size)
+    if size[id(root)] > limits.MAX_YAML_NODES:
+        raise ConfigError(f"the document expands to more than {limits.MAX_YAML_NODES:,} values "
+                          "once its aliases (*name) are followed; a design is far smaller: "
+                          "write the data out, or share less through anchors",
+                          line=root.start_mark.line + 1)
+    if depth[id(root)] > limits.MAX_YAML_DEPTH:
+        raise ConfigError(f"the document nests deeper than {limits.MAX_YAML_DEPTH} levels; a "
+                          "design nests about six", line=root.start_mark.line + 1)
+
+
+def _children(node: yaml.Node) -> list[yaml.Node]:
+    if isinstance(node, yaml.MappingNode):
+        return [n for pair in node.value for n in pair]
+    if isinstance(node, yaml.SequenceNode):
+        return list(node.value)
+    return []
+
+
 def _yaml_problem(exc: yaml.YAMLError) -> tuple[str, int | None]:
     mark = getattr(exc, "problem_mark", None) or getattr(exc, "context_mark", None)
     line = mark.line + 1 if mark is not None else None
@@ -136,7 +214,7 @@ def _yaml_problem(exc: yaml.YAMLError) -> tuple[str, int | None]:
     context = getattr(exc, "context", None)
     text = f"{context}, {problem}" if context else problem
     hint = "check the indentation, colons and quotes on this line or the one before"
-    if "\\t" in text or "\t" in text:
+    if "\\t" in text or "\t" in text or "tab character" in text:
         hint = "indent with spaces; YAML does not allow tabs"
     return f"not valid YAML: {text}; {hint}", line
 
@@ -149,6 +227,9 @@ def parse_yaml(text: str, file: str | None = None) -> tuple[Any, Lines]:
     ConfigError
         For malformed YAML or a key given twice, with the line.
     """
+    if len(text) > limits.MAX_DESIGN_BYTES:
+        raise ConfigError(f"the text is more than {limits.MAX_DESIGN_BYTES // 1024 ** 2} MiB, "
+                          "the most a design may have", file=file)
     loader = MarkedLoader(text)
     try:
         return loader.load_marked()
@@ -213,7 +294,17 @@ def load_design(path: str | os.PathLike) -> Design:
     if p.is_dir():
         raise ConfigError("is a directory; expected a design file (YAML)", file=name)
     try:
-        raw = p.read_bytes()
+        size = p.stat().st_size
+        if size > limits.MAX_DESIGN_BYTES:
+            raise ConfigError(f"the file is {size / 1024 ** 2:.1f} MiB, more than the "
+                              f"{limits.MAX_DESIGN_BYTES // 1024 ** 2} MiB a design file may "
+                              "have; expected a design file (YAML)", file=name)
+        with p.open("rb") as fh:
+            raw = fh.read(limits.MAX_DESIGN_BYTES + 1)
+        if len(raw) > limits.MAX_DESIGN_BYTES:
+            raise ConfigError(f"the file is more than {limits.MAX_DESIGN_BYTES // 1024 ** 2} "
+                              "MiB, the most a design file may have; expected a design file "
+                              "(YAML)", file=name)
     except FileNotFoundError:
         raise ConfigError("no such file; expected the path of a design file (YAML)",
                           file=name) from None

@@ -251,6 +251,9 @@ def _message(err: dict, data: Any) -> tuple[str, tuple]:
         if bound == 0 and key in ("gt", "ge"):
             return f"must be {'positive' if key == 'gt' else 'zero or more'}, {got}", path
         return f"must be {words} {_bound_text(bound, owner, name)}, {got}", path
+    if etype == "too_long":
+        n = ctx.get("max_length")
+        return (f"has more than {n} entries, the most this field may have", path)
     if etype in ("too_short", "string_too_short"):
         n = ctx.get("min_length", 1)
         if etype == "string_too_short":

@@ -15,13 +15,14 @@ from __future__ import annotations
 
 import math
 import re
+from collections import Counter
 from typing import Annotated, Any, Literal, Union
 
 from pydantic import (BaseModel, BeforeValidator, ConfigDict, Discriminator,
                       Field, StrictBool, Tag, ValidationInfo, field_validator,
                       model_validator)
 
-from necflow import units
+from necflow import limits, units
 from necflow.calibrate.spec import ToleranceSpec
 from necflow.optimize.spec import CostSpec, SearchParam
 
@@ -92,11 +93,16 @@ def _fraction_or_length(v: Any) -> float | tuple[str, float]:
 Position = Annotated[tuple[str, float], BeforeValidator(_fraction_or_length)]
 
 
+def _duplicates(items) -> list:
+    """Items given more than once, sorted (linear in the number of items)."""
+    return sorted(k for k, n in Counter(items).items() if n > 1)
+
+
 class Strict(BaseModel):
     """Base: unknown keys are errors, values are re-validated on assignment."""
 
     model_config = ConfigDict(extra="forbid", validate_assignment=True,
-                              populate_by_name=True)
+                              populate_by_name=True, allow_inf_nan=False)
 
 
 # ----------------------------------------------------------------------------
@@ -115,7 +121,7 @@ class BandSpec(Strict):
                                       description="Upper band edge (default: from the band table)")
     points: int = Field(11, ge=2, le=1001,
                         description="Frequencies evaluated across the band, edges included")
-    weight: float = Field(1.0, ge=0.0, description="Weight of the band in scores")
+    weight: float = Field(1.0, ge=0.0, le=1000.0, description="Weight of the band in scores")
 
     @model_validator(mode="after")
     def _edges(self) -> "BandSpec":
@@ -128,6 +134,13 @@ class BandSpec(Strict):
                 raise ValueError(
                     f"band edges are reversed or equal: low {self.low/1e6:g} MHz is not below "
                     f"high {self.high/1e6:g} MHz")
+            lo, hi = limits.F_MIN_HZ, limits.F_MAX_HZ
+            for key, v in (("low", self.low), ("high", self.high)):
+                if not lo <= v <= hi:
+                    raise ValueError(
+                        f"{key}: {units.format_quantity(v, 'frequency')} is outside "
+                        f"{lo / 1e6:g}-{hi / 1e6:g} MHz, the range this tool is meant for (the "
+                        "line catalog's loss figures and the ground constants are for HF)")
         return self
 
 
@@ -150,7 +163,7 @@ WIRE_MATERIALS = ("copper", "hard-drawn-copper", "aluminium", "copper-clad-steel
 class WireSpec(Strict):
     """Conductor of the radiator."""
 
-    diameter: Length = quantity("length", default="2 mm", unit="mm", gt=0,
+    diameter: Length = quantity("length", default="2 mm", unit="mm", gt=0, le=1.0,
                                 description="Conductor diameter")
     material: str = Field("copper", description="Conductor material, for conductor loss: "
                           + ", ".join(WIRE_MATERIALS))
@@ -167,8 +180,10 @@ class Doublet(Strict):
     """A straight, horizontal, centre-fed wire."""
 
     shape: Literal["doublet"]
-    span: Length = quantity("length", gt=0, description="Tip-to-tip length of the wire")
-    height: Length = quantity("length", gt=0, description="Height of the wire above ground")
+    span: Length = quantity("length", gt=0, le=2000.0,
+                            description="Tip-to-tip length of the wire")
+    height: Length = quantity("length", gt=0, le=500.0,
+                              description="Height of the wire above ground")
     wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
 
 
@@ -176,8 +191,10 @@ class OffCentre(Strict):
     """A straight, horizontal wire fed away from its centre."""
 
     shape: Literal["off-centre"]
-    span: Length = quantity("length", gt=0, description="Tip-to-tip length of the wire")
-    height: Length = quantity("length", gt=0, description="Height of the wire above ground")
+    span: Length = quantity("length", gt=0, le=2000.0,
+                            description="Tip-to-tip length of the wire")
+    height: Length = quantity("length", gt=0, le=500.0,
+                              description="Height of the wire above ground")
     feed_position: Position = Field(..., description="Feed point from the left tip: a fraction "
                                     "(0.33), a percentage ('33 %') or a distance ('13.4 m')",
                                     json_schema_extra={"unit": "fraction or m"})
@@ -188,9 +205,11 @@ class InvertedV(Strict):
     """Two straight legs sloping down from a centre-fed apex."""
 
     shape: Literal["inverted-v"]
-    apex_height: Length = quantity("length", gt=0, description="Height of the feed point (apex)")
-    leg: Length = quantity("length", gt=0, description="Length of each leg along the wire")
-    end_height: Length | None = quantity("length", default=None, ge=0,
+    apex_height: Length = quantity("length", gt=0, le=500.0,
+                                   description="Height of the feed point (apex)")
+    leg: Length = quantity("length", gt=0, le=1000.0,
+                           description="Length of each leg along the wire")
+    end_height: Length | None = quantity("length", default=None, ge=0, le=500.0,
                                          description="Height of the leg ends (give this or 'droop')")
     droop: Angle | None = quantity("angle", default=None, ge=0,
                                    description="Angle of each leg below horizontal "
@@ -210,10 +229,17 @@ def _point(v: Any) -> tuple[float, float, float]:
     if not isinstance(v, (list, tuple)) or len(v) != 3:
         raise ValueError("a point is a list of three lengths [x, y, z], e.g. ['0 m', '0 m', '10 m']")
     try:
-        return tuple(units.parse(c, "length") for c in v)  # type: ignore[return-value]
+        point = tuple(units.parse(c, "length") for c in v)
     except units.UnitError as exc:
         raise ValueError(str(exc)) from None
+    if max(abs(c) for c in point) > MAX_COORDINATE_M:
+        raise ValueError(f"a coordinate is more than {MAX_COORDINATE_M / 1000:g} km from the "
+                         "origin; expected a wire antenna's size")
+    return point  # type: ignore[return-value]
 
+
+#: Largest distance of a wire point from the origin [m].
+MAX_COORDINATE_M = 5000.0
 
 Point = Annotated[tuple[float, float, float], BeforeValidator(_point)]
 
@@ -226,7 +252,7 @@ class WireItem(Strict):
     start: Point = Field(..., description="Start point [x, y, z]",
                          json_schema_extra={"unit": "m"})
     end: Point = Field(..., description="End point [x, y, z]", json_schema_extra={"unit": "m"})
-    diameter: Length | None = quantity("length", default=None, unit="mm", gt=0,
+    diameter: Length | None = quantity("length", default=None, unit="mm", gt=0, le=1.0,
                                        description="Diameter (default: the list's 'wire.diameter')")
 
     @model_validator(mode="after")
@@ -249,15 +275,16 @@ class WireList(Strict):
     """Any structure of straight wires."""
 
     shape: Literal["wires"]
-    wires: list[WireItem] = Field(..., min_length=1, description="The wires")
+    wires: list[WireItem] = Field(..., min_length=1, max_length=limits.MAX_WIRES,
+                                  description="The wires")
     feed: FeedPoint = Field(..., description="Feed point")
     wire: WireSpec = Field(default_factory=WireSpec, description="Default conductor")
 
     @model_validator(mode="after")
     def _feed_wire(self) -> "WireList":
         names = [w.name for w in self.wires if w.name]
-        if len(names) != len(set(names)):
-            dup = sorted({n for n in names if names.count(n) > 1})
+        dup = _duplicates(names)
+        if dup:
             raise ValueError(f"duplicate wire name(s): {', '.join(dup)}")
         ref = self.feed.wire
         if isinstance(ref, int):
@@ -296,8 +323,9 @@ class Ground(Strict):
     surface: str | None = Field(None, description="Named surface from the ground catalog "
                                 "(ITU-R P.527), e.g. medium-dry; or give permittivity and "
                                 "conductivity")
-    permittivity: float | None = Field(None, gt=0, description="Relative permittivity of the soil")
-    conductivity: Conductivity | None = quantity("conductivity", default=None, gt=0,
+    permittivity: float | None = Field(None, ge=1, le=100, description="Relative permittivity "
+                                       "of the soil (1 to 100; sea water is about 70-81)")
+    conductivity: Conductivity | None = quantity("conductivity", default=None, gt=0, le=10.0,
                                                  description="Soil conductivity")
 
     @model_validator(mode="after")
@@ -321,13 +349,28 @@ class Ground(Strict):
 # Feed chain
 
 
+#: Highest matched loss a line may have [dB/m] (about 90 dB per 100 ft; the
+#: thinnest common coax loses a tenth of that at 30 MHz, common practice).
+MAX_LINE_DB_PER_M = 3.0
+
+
 class LossPoint(Strict):
     """One matched-loss figure of a custom line."""
 
-    frequency: Frequency = quantity("frequency", gt=0, description="Frequency of the figure")
-    db: float = Field(..., ge=0, description="Matched loss in dB over the length 'per'")
-    per: Length = quantity("length", default="100 ft", unit="ft", gt=0,
+    frequency: Frequency = quantity("frequency", gt=0, le=10e9,
+                                    description="Frequency of the figure")
+    db: float = Field(..., ge=0, le=1000, description="Matched loss in dB over the length 'per'")
+    per: Length = quantity("length", default="100 ft", unit="ft", gt=0, le=10_000.0,
                            description="Length the loss figure refers to")
+
+    @model_validator(mode="after")
+    def _plausible(self) -> "LossPoint":
+        if self.db / self.per > MAX_LINE_DB_PER_M:
+            raise ValueError(f"db: {self.db:g} dB over {units.format_quantity(self.per, 'length')}"
+                             f" is {self.db / self.per:.3g} dB/m, more than the "
+                             f"{MAX_LINE_DB_PER_M:g} dB/m of any feed line (thin coax loses "
+                             "under 0.3 dB/m at HF)")
+        return self
 
 
 class LineElement(Strict):
@@ -336,14 +379,14 @@ class LineElement(Strict):
     id: str = Field(..., description="Unique name of the element")
     line: str = Field(..., description="Line type from the catalog (e.g. window-450, rg-213) "
                       "or 'custom'")
-    length: Length = quantity("length", gt=0, description="Physical length")
-    impedance: Resistance | None = quantity("resistance", default=None, gt=0,
+    length: Length = quantity("length", gt=0, le=5000.0, description="Physical length")
+    impedance: Resistance | None = quantity("resistance", default=None, gt=0, le=2000.0,
                                             description="Characteristic impedance (custom lines; "
                                             "overrides the catalog)")
     velocity_factor: float | None = Field(None, gt=0, le=1,
                                           description="Velocity factor (custom lines; overrides "
                                           "the catalog)")
-    loss: list[LossPoint] | None = Field(None, description="Matched loss at one or more "
+    loss: list[LossPoint] | None = Field(None, max_length=50, description="Matched loss at one or more "
                                          "frequencies (custom lines; overrides the catalog)")
     balanced: StrictBool | None = Field(None, description="Whether the line is balanced (two-wire) "
                                   "rather than coax (default: the catalog type's; false for "
@@ -362,6 +405,9 @@ class LineElement(Strict):
 
 
 PART_KINDS = {"capacitor": "capacitance", "inductor": "inductance", "resistor": "resistance"}
+#: Plausible values of each part [F, H, ohm].
+PART_RANGES = {"capacitor": (0.01e-12, 100e-6), "inductor": (1e-9, 100e-3),
+               "resistor": (1e-3, 10e6)}
 
 
 class PartElement(Strict):
@@ -375,7 +421,7 @@ class PartElement(Strict):
     value: float = Field(..., description="Capacitance (pF, nF), inductance (uH) or "
                          "resistance (ohm), with its unit",
                          json_schema_extra={"unit": "pF / uH / ohm"})
-    q: float | None = Field(None, gt=0, description="Unloaded Q of a capacitor or inductor "
+    q: float | None = Field(None, gt=0, le=1e6, description="Unloaded Q of a capacitor or inductor "
                             "(default: 1000 for capacitors, 200 for inductors)")
     esr: Resistance | None = quantity("resistance", default=None, ge=0,
                                       description="Equivalent series resistance (instead of Q)")
@@ -406,6 +452,13 @@ class PartElement(Strict):
             raise ValueError("give exactly one of 'series' and 'shunt'")
         if self.value <= 0:
             raise ValueError("value must be positive")
+        lo, hi = PART_RANGES[self.kind]
+        dim = PART_KINDS[self.kind]
+        if not lo <= self.value <= hi:
+            raise ValueError(f"value: {units.format_quantity(self.value, dim)} is outside "
+                             f"{units.format_quantity(lo, dim)} to "
+                             f"{units.format_quantity(hi, dim)}, the range of parts in a feed "
+                             "system")
         if self.q is not None and self.esr is not None:
             raise ValueError("give 'q' or 'esr', not both")
         if self.kind == "resistor" and (self.q is not None or self.esr is not None):
@@ -509,16 +562,16 @@ Element = Annotated[Union[Annotated[LineElement, Tag("line")],
 class Radio(Strict):
     """The radio at the end of the feed chain."""
 
-    impedance: Resistance = quantity("resistance", default="50 ohm", gt=0,
+    impedance: Resistance = quantity("resistance", default="50 ohm", ge=1.0, le=1000.0,
                                      description="Reference impedance the radio wants")
-    power: Power = quantity("power", default="100 W", gt=0,
+    power: Power = quantity("power", default="100 W", gt=0, le=100e3,
                             description="Available power (carrier or PEP) for stress figures")
 
 
 class Goal(Strict):
     """What a usable result is."""
 
-    swr_limit: float = Field(2.0, gt=1, description="Highest acceptable SWR at the radio")
+    swr_limit: float = Field(2.0, gt=1, le=100, description="Highest acceptable SWR at the radio")
 
 
 class Cautions(Strict):
@@ -536,7 +589,7 @@ class ModelSettings(Strict):
         20.0, ge=2, le=200, description="Segments per wavelength at the highest frequency "
         "(20 keeps segments at 0.05 wavelength; below 10 breaks the 0.1-wavelength rule "
         "and 'necflow check' says so)")
-    max_segments: int = Field(2000, ge=10, le=20000,
+    max_segments: int = Field(2000, ge=10, le=10000,
                               description="Refuse a model needing more segments than this")
 
 
@@ -571,7 +624,7 @@ class TunerSpec(Strict):
     remote_line: str | None = Field(None, description="Unbalanced line type from the unit "
                                     "at the feedpoint to the radio (default: the design's "
                                     "first unbalanced line, else rg-213)")
-    remote_length: Length | None = quantity("length", default=None, gt=0,
+    remote_length: Length | None = quantity("length", default=None, gt=0, le=5000.0,
                                             description="Length of that run (default: the "
                                             "total length of the design's lines)")
 
@@ -580,15 +633,15 @@ class AlternativeSpec(Strict):
     """A named alternative feed system for the same antenna."""
 
     name: str = Field(..., min_length=1, description="Name shown in the report")
-    feed: list[Element] = Field(..., description="Its feed chain from the antenna toward the "
+    feed: list[Element] = Field(..., max_length=limits.MAX_FEED_ELEMENTS,
+                                description="Its feed chain from the antenna toward the "
                                 "radio, with the keys of 'feed'")
     tuner: Literal["none", "radio", "feedpoint"] = Field(
         "none", description="Add the matching unit at the radio or at the feedpoint")
 
     @model_validator(mode="after")
     def _unique_ids(self) -> "AlternativeSpec":
-        ids = [e.id for e in self.feed]
-        dup = sorted({i for i in ids if ids.count(i) > 1})
+        dup = _duplicates(e.id for e in self.feed)
         if dup:
             raise ValueError(f"duplicate element id(s) in feed: {', '.join(dup)}")
         return self
@@ -597,12 +650,12 @@ class AlternativeSpec(Strict):
 class ReportSpec(Strict):
     """What the decision report shows."""
 
-    elevations: list[ElevationOfInterest] = Field(
+    elevations: list[ElevationOfInterest] = Field(max_length=limits.MAX_ELEVATIONS,
         default_factory=_default_angles, description="Elevation angles of interest: antenna "
         "and system gain are reported at each",
         json_schema_extra={"default_text": "long distance 10 deg, medium range 30 deg, "
                            "short range 70 deg"})
-    worst_case_power: Power = quantity("power", default="1500 W", gt=0,
+    worst_case_power: Power = quantity("power", default="1500 W", gt=0, le=100e3,
                                        description="Power for the worst-case stress figures")
     far_field: Literal["centre", "across"] = Field(
         "centre", description="Far field at each band's centre, or across the band (edges "
@@ -612,13 +665,14 @@ class ReportSpec(Strict):
                                  "cautious choice)")
     tuner: TunerSpec = Field(default_factory=TunerSpec, description="The matching unit of the "
                              "alternatives")
-    alternatives: list[AlternativeSpec] = Field(default_factory=list, description="Your own "
+    alternatives: list[AlternativeSpec] = Field(default_factory=list,
+                                                max_length=limits.MAX_ALTERNATIVES,
+                                                description="Your own "
                                                 "alternative feed systems to compare")
 
     @model_validator(mode="after")
     def _names(self) -> "ReportSpec":
-        names = [a.name for a in self.alternatives]
-        dup = sorted({n for n in names if names.count(n) > 1})
+        dup = _duplicates(a.name for a in self.alternatives)
         if dup:
             raise ValueError(f"alternative name(s) listed twice: {', '.join(dup)}")
         if not self.elevations:
@@ -632,11 +686,13 @@ class Design(Strict):
     name: str = Field(..., min_length=1, description="Name of the design (used in run folders)")
     description: str = Field("", description="Free text")
     region: Literal[1, 2, 3] = Field(2, description="ITU region of the built-in band table")
-    bands: list[BandEntry] = Field(..., min_length=1, description="Bands to evaluate: names "
+    bands: list[BandEntry] = Field(..., min_length=1, max_length=limits.MAX_BANDS,
+                                   description="Bands to evaluate: names "
                                    "from the band table, or entries with name/low/high/points/weight")
     antenna: Antenna = Field(..., description="The radiator")
     ground: Ground = Field(..., description="The ground")
-    feed: list[Element] = Field(..., description="Feed chain from the antenna toward the radio "
+    feed: list[Element] = Field(..., max_length=limits.MAX_FEED_ELEMENTS,
+                                description="Feed chain from the antenna toward the radio "
                                 "(an empty list feeds the antenna directly)")
     radio: Radio = Field(default_factory=Radio, description="The radio")
     goal: Goal = Field(default_factory=Goal, description="What counts as usable")
@@ -666,12 +722,10 @@ class Design(Strict):
 
     @model_validator(mode="after")
     def _unique_ids(self) -> "Design":
-        ids = [e.id for e in self.feed]
-        dup = sorted({i for i in ids if ids.count(i) > 1})
+        dup = _duplicates(e.id for e in self.feed)
         if dup:
             raise ValueError(f"duplicate element id(s) in feed: {', '.join(dup)}")
-        names = [b.name for b in self.bands]
-        dupb = sorted({n for n in names if names.count(n) > 1})
+        dupb = _duplicates(b.name for b in self.bands)
         if dupb:
             raise ValueError(f"band(s) listed twice: {', '.join(dupb)}")
         return self

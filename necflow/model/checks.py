@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 
+from necflow import limits
 from necflow.config.schema import Design, InvertedV, WireList
 from necflow.errors import ConfigError
 from necflow.model.geometry import geometry
@@ -66,3 +67,10 @@ def check_geometry(design: Design, f_max_hz: float) -> None:
                           f"({design.model.segments_per_wavelength:g} per wavelength), more than "
                           f"the limit of {limit}; raise the limit or lower "
                           "model.segments_per_wavelength", field="model.max_segments")
+    fits = limits.max_segments_for_memory()
+    if count > fits:
+        need = limits.solve_memory_bytes(count) / 1024 ** 3
+        raise ConfigError(f"the model needs {count} segments, whose interaction matrix takes "
+                          f"{need:.3g} GiB; this machine has room for about {fits} segments "
+                          "now; lower model.segments_per_wavelength or shorten the wires",
+                          field="model.max_segments")

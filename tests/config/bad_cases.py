@@ -92,12 +92,12 @@ antenna:
 _LONG = """\
 name: very-long-wire
 bands: [{name: top, low: 29 MHz, high: 30 MHz}]
-antenna: {shape: doublet, span: 10 km, height: 10 m}
+antenna: {shape: doublet, span: 1.9 km, height: 10 m}
 ground: {model: free-space}
 feed: []
 model:
   segments_per_wavelength: 40
-  max_segments: 20000
+  max_segments: 5000
 """
 
 BAD_CASES: list[BadCase] = [
@@ -192,7 +192,7 @@ BAD_CASES: list[BadCase] = [
             "antenna.feed_position", "off the wire"),
     BadCase("feed-distance-off-wire", _antenna(_OCF.format(pos="25 m")), 8,
             "antenna.feed_position", "off the wire"),
-    BadCase("too-many-segments", _LONG, 8, "model.max_segments", "more than the limit of 20000"),
+    BadCase("too-many-segments", _LONG, 8, "model.max_segments", "more than the limit of 5000"),
     # --- ground
     BadCase("ground-model-typo", _edit("model: sommerfeld", "model: sommerfield"), 9,
             "ground.model", "did you mean 'sommerfeld'?"),

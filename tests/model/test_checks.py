@@ -79,7 +79,7 @@ def test_too_many_segments_refused_before_building(make_design, monkeypatch):
 
     monkeypatch.setattr(build_module, "Wire", no_wires)
     d = make_design({"shape": "doublet", "span": "2000 m", "height": "10 m"},
-                    segments_per_wavelength=200, max_segments=20000)
+                    segments_per_wavelength=200, max_segments=10000)
     with pytest.raises(ConfigError) as info:
         build_model(d, 30e6)
     assert info.value.field == "model.max_segments"
