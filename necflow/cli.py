@@ -176,6 +176,9 @@ def cmd_evaluate(args) -> int:
 
     started = run_folder.now_utc()
     design = load_design(args.design)
+    if args.study is not None and not Path(args.study).is_dir():
+        raise ConfigError(f"'{args.study}' is not a folder; expected a study's run folder "
+                          "(with best.yaml)", field="--study")
     try:
         evaluation = evaluate(design, refuse_broken_rules=True)
     except RulesBroken as exc:

@@ -71,6 +71,9 @@ def run_fit(args) -> int:
     from necflow.measure.overlay import compare, overlay_figure
 
     design = load_design(args.design)
+    if args.starts < 1:
+        raise ConfigError(f"give at least one starting point, got {args.starts}",
+                          field="--starts")
     z_ref = design.radio.impedance
     if args.reference:
         try:

@@ -270,6 +270,44 @@ def locate(error: ConfigError, path: str | os.PathLike) -> ConfigError:
 # Entry points
 
 
+def read_design_text(path: str | os.PathLike, what: str = "a design file (YAML)",
+                     limit: int = limits.MAX_DESIGN_BYTES) -> str:
+    """The text of a design (or batch) file, its size checked before reading.
+
+    Raises
+    ------
+    ConfigError
+        A folder, a missing or unreadable file, one larger than ``limit``
+        bytes, or one that is not UTF-8 text.
+    """
+    name = os.fspath(path)
+    p = Path(path)
+    if p.is_dir():
+        raise ConfigError(f"is a directory; expected {what}", file=name)
+    try:
+        size = p.stat().st_size
+        if size > limit:
+            raise ConfigError(f"the file is {size / 1024 ** 2:.1f} MiB, more than the "
+                              f"{limit / 1024 ** 2:g} MiB {what} may have", file=name)
+        with p.open("rb") as fh:
+            raw = fh.read(limit + 1)
+        if len(raw) > limit:
+            raise ConfigError(f"the file is more than {limit / 1024 ** 2:g} MiB, the most "
+                              f"{what} may have", file=name)
+    except FileNotFoundError:
+        raise ConfigError(f"no such file; expected the path of {what}", file=name) from None
+    except PermissionError:
+        raise ConfigError("cannot read the file: permission denied", file=name) from None
+    except OSError as exc:
+        raise ConfigError(f"cannot read the file: {exc.strerror or exc}", file=name) from None
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw[:exc.start].count(b"\n") + 1
+        raise ConfigError(f"not UTF-8 text (byte 0x{raw[exc.start]:02x}); save the file "
+                          "as UTF-8", file=name, line=line) from None
+
+
 def load_design(path: str | os.PathLike) -> Design:
     """Read, validate and check a design file.
 
@@ -289,36 +327,7 @@ def load_design(path: str | os.PathLike) -> Design:
         One error, the most useful one, as ``FILE:LINE: field: message``;
         the message adds ``(and N more problems)`` when there are several.
     """
-    name = os.fspath(path)
-    p = Path(path)
-    if p.is_dir():
-        raise ConfigError("is a directory; expected a design file (YAML)", file=name)
-    try:
-        size = p.stat().st_size
-        if size > limits.MAX_DESIGN_BYTES:
-            raise ConfigError(f"the file is {size / 1024 ** 2:.1f} MiB, more than the "
-                              f"{limits.MAX_DESIGN_BYTES // 1024 ** 2} MiB a design file may "
-                              "have; expected a design file (YAML)", file=name)
-        with p.open("rb") as fh:
-            raw = fh.read(limits.MAX_DESIGN_BYTES + 1)
-        if len(raw) > limits.MAX_DESIGN_BYTES:
-            raise ConfigError(f"the file is more than {limits.MAX_DESIGN_BYTES // 1024 ** 2} "
-                              "MiB, the most a design file may have; expected a design file "
-                              "(YAML)", file=name)
-    except FileNotFoundError:
-        raise ConfigError("no such file; expected the path of a design file (YAML)",
-                          file=name) from None
-    except PermissionError:
-        raise ConfigError("cannot read the file: permission denied", file=name) from None
-    except OSError as exc:
-        raise ConfigError(f"cannot read the file: {exc.strerror or exc}", file=name) from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = raw[:exc.start].count(b"\n") + 1
-        raise ConfigError(f"not UTF-8 text (byte 0x{raw[exc.start]:02x}); save the file "
-                          "as UTF-8", file=name, line=line) from None
-    return load_design_text(text, file=name)
+    return load_design_text(read_design_text(path), file=os.fspath(path))
 
 
 def load_design_text(text: str, file: str = "<string>") -> Design:
@@ -389,7 +398,30 @@ def _check_geometry(design: Design) -> None:
     from necflow.model import check_geometry
 
     bands = resolve_bands(design)
-    check_geometry(design, max(b.high_hz for b in bands))
+    f_max = max(b.high_hz for b in bands)
+    _check_line_loss(design, f_max)
+    check_geometry(design, f_max)
+
+
+#: Most matched loss one line may have at the top frequency [dB]: beyond it
+#: nothing measurable reaches the antenna (and the wave solution overflows
+#: near 6000 dB).
+MAX_LINE_LOSS_DB = 300.0
+
+
+def _check_line_loss(design: Design, f_max: float) -> None:
+    from necflow.feed.chain import build_chain
+
+    for i, el in enumerate(build_chain(design.feed, r_radio=design.radio.impedance).elements):
+        lt = getattr(el, "line_type", None)
+        if lt is None:
+            continue
+        db = float(lt.attenuation_db_per_m(f_max)) * el.length
+        if not db <= MAX_LINE_LOSS_DB:
+            raise ConfigError(f"this line loses {db:.3g} dB matched at {f_max / 1e6:g} MHz, "
+                              f"more than {MAX_LINE_LOSS_DB:g} dB: nothing would reach the "
+                              "antenna; check its length and loss figures",
+                              field=f"feed[{i}].length")
 
 
 __all__ = ["MarkedLoader", "parse_yaml", "load_design", "load_design_text"]

@@ -725,6 +725,10 @@ class Design(Strict):
         dup = _duplicates(e.id for e in self.feed)
         if dup:
             raise ValueError(f"duplicate element id(s) in feed: {', '.join(dup)}")
+        total = sum(b.points for b in self.bands)
+        if total > limits.MAX_POINTS_TOTAL:
+            raise ValueError(f"bands: {total} frequency points in all, more than "
+                             f"{limits.MAX_POINTS_TOTAL:,}; give fewer points per band")
         dupb = _duplicates(b.name for b in self.bands)
         if dupb:
             raise ValueError(f"band(s) listed twice: {', '.join(dupb)}")

@@ -28,6 +28,12 @@ PARAMETERS = ("S", "Y", "Z")
 FORMATS = ("MA", "DB", "RI")
 
 
+#: Largest reflection magnitude accepted: a passive antenna reflects at most
+#: what it is sent (|Gamma| <= 1); analyzers read slightly above 1 near a
+#: short or an open through calibration error (common practice), so 1.05.
+MAX_REFLECTION = 1.05
+
+
 def parse_option_line(text: str, *, file: str | None = None,
                       line: int | None = None) -> tuple[float, str, str, float]:
     """Read a Touchstone option line.
@@ -153,7 +159,14 @@ def parse_touchstone(text: str, *, file: str = "<string>", at: str = "radio") ->
         k = int(np.argmin(np.isfinite(gamma)))
         raise ConfigError("a reflection coefficient is not finite (a zero admittance?)",
                           file=file, line=rows[k][0])
-    return Measurement(frequency_hz=f, gamma=gamma, gamma_mag=np.abs(gamma), z_ref=r, at=at,
+    mag = np.abs(gamma)
+    if np.any(mag > MAX_REFLECTION):
+        k = int(np.argmax(mag))
+        raise ConfigError(f"a reflection magnitude of {mag[k]:.4g} (above 1: more power back "
+                          "than sent) is not a measurement of an antenna; check the format "
+                          "(MA, DB, RI) and the parameter (S, Z, Y) on the option line",
+                          file=file, line=rows[k][0])
+    return Measurement(frequency_hz=f, gamma=gamma, gamma_mag=mag, z_ref=r, at=at,
                        source=file, quantity=param)
 
 

@@ -11,6 +11,7 @@ import math
 from necflow import limits
 from necflow.config.schema import Design, InvertedV, WireList
 from necflow.errors import ConfigError
+from necflow.model.clearance import clearance_problems
 from necflow.model.geometry import geometry
 from necflow.model.plan import plan_wires
 from necflow.model.segments import target_segment_length
@@ -58,6 +59,17 @@ def check_geometry(design: Design, f_max_hz: float) -> None:
                     raise ConfigError(f"wire '{w.name}' goes {-z:.3g} m below ground (z < 0); "
                                       "an end at z = 0 connects to the ground",
                                       field=f"antenna.wires[{i}].{end}")
+    problems = clearance_problems(spans)
+    if problems:
+        i, j, what = problems[0]
+        field = "antenna.wires" if isinstance(a, WireList) else "antenna"
+        p = spans[j].start
+        extra = f" (and {len(problems) - 1} more pair(s))" if len(problems) > 1 else ""
+        raise ConfigError(
+            f"wire '{spans[j].name}' ({field}[{j}]) {what} wire '{spans[i].name}' "
+            f"({field}[{i}]){extra}; wires may meet only end to end, at a shared point "
+            f"(wire '{spans[j].name}' starts at {p[0]:g}, {p[1]:g}, {p[2]:g} m)",
+            field=f"{field}[{j}]" if isinstance(a, WireList) else field)
     target = target_segment_length(design, f_max_hz)
     planned, _ = plan_wires(spans, feed, target)
     count = sum(w.segments for w in planned)

@@ -92,15 +92,14 @@ def load_batch(path) -> tuple[BatchSpec, list[tuple[str, dict, str]]]:
     ConfigError
         For the batch file itself, or naming the first cell whose design is invalid.
     """
-    from necflow.config.load import load_design_text, parse_yaml
+    from necflow.config.load import load_design_text, parse_yaml, read_design_text
 
     name = str(path)
-    try:
-        text = Path(path).read_text(encoding="utf-8-sig")
-    except OSError as exc:
-        raise ConfigError(f"cannot read the batch file: {exc.strerror or exc}",
-                          file=name) from None
+    text = read_design_text(path, "a batch file (YAML)")
     data, lines = parse_yaml(text, name)
+    if not isinstance(data, dict):
+        raise ConfigError("expected a batch: a mapping with name, base and matrix", file=name,
+                          line=lines.get(()))
     try:
         spec = BatchSpec.model_validate(data)
     except ValidationError as exc:
@@ -109,12 +108,14 @@ def load_batch(path) -> tuple[BatchSpec, list[tuple[str, dict, str]]]:
         raise ConfigError(e["msg"], file=name, line=_line(loc, lines),
                           field=".".join(map(str, loc)) or None) from None
     base_path = Path(path).parent / spec.base
-    try:
-        base_text = base_path.read_text(encoding="utf-8-sig")
-    except OSError:
+    if not base_path.is_file():
         raise ConfigError(f"base design '{spec.base}' not found (looked for {base_path})",
-                          file=name, line=lines.get(("base",)), field="base") from None
-    base, _ = parse_yaml(base_text, str(base_path))
+                          file=name, line=lines.get(("base",)), field="base")
+    base, _ = parse_yaml(read_design_text(base_path), str(base_path))
+    if not isinstance(base, dict) or not {"antenna", "feed"} <= set(base):
+        raise ConfigError(f"base '{spec.base}' is not a design file: expected a mapping with "
+                          "name, bands, antenna, ground and feed", file=name,
+                          line=lines.get(("base",)), field="base")
     out = []
     for cid, over in cells(spec):
         d = copy.deepcopy(base)

@@ -84,7 +84,7 @@ def _file(unit, param, fmt, r):
         f = (7.0e6 + k * 1e5) / scale
         v = mag * np.exp(1j * np.deg2rad(deg))
         if param == "Z":
-            v = 0.7 + v          # a normalised impedance with positive real part
+            v = 0.9 + v          # a normalised impedance with positive real part (0.112)
         if param == "Y":
             v = 1.3 + v
         a, b = {"RI": (v.real, v.imag), "MA": (abs(v), np.degrees(np.angle(v))),
