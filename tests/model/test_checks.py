@@ -104,14 +104,14 @@ def test_too_many_segments_refused_before_building(make_design, monkeypatch):
 
 
 def test_limit_is_inclusive(make_design):
-    # A 20 m doublet at 14.35 MHz: 51 segments by the closed-form count (per side
-    # ln(1.0446 / 0.02141) / 0.2 + (9.989 - 5.116) / 1.0446 = 24.1, so 25); a limit
-    # of 51 passes, 50 refuses.
+    # A 20 m doublet at 14.35 MHz: 79 segments by the closed-form count (per side
+    # ln(1 + 0.1 * 9.989 / 0.02141) / 0.1 = 38.6, so 39); a limit of 79 passes,
+    # 78 refuses.
     ant = {"shape": "doublet", "span": "20 m", "height": "10 m"}
     d = make_design(ant)
     n = _doublet_count(20.0, target_segment_length(d, F_MAX), 1e-3 * 299_792_458 / 14.0e6,
                        GROWTH)
-    assert n == 51
+    assert n == 79
     assert build_model(make_design(ant, max_segments=n), F_MAX).segment_count == n
     assert _field(make_design(ant, max_segments=n - 1)) == "model.max_segments"
 
@@ -120,7 +120,7 @@ def test_refined_model_honours_the_limit(make_design):
     # The convergence check's model (segments doubled) is counted against the same
     # limit before it is built, and the message says it is the refined one.
     ant = {"shape": "doublet", "span": "20 m", "height": "10 m"}
-    d = make_design(ant, max_segments=51)
+    d = make_design(ant, max_segments=79)
     build_model(d, F_MAX)
     with pytest.raises(ConfigError) as info:
         build_model(d, F_MAX, density=2)

@@ -159,7 +159,7 @@ def test_summary_rows_and_text(make_design):
     s = summarize(m, d, F_MIN, F_MAX)
     # One row per piece: the graded engine wires of a piece together.
     assert [r.name for r in s.wires] == ["wire (to start)", "wire (source)", "wire (to end)"]
-    assert sum(r.segments for r in s.wires) == s.total_segments == m.segment_count == 51
+    assert sum(r.segments for r in s.wires) == s.total_segments == m.segment_count == 79
     lam_top = 299_792_458 / F_MAX
     for r in s.wires:
         mine = [w for w in m.wires if w.name == r.name]

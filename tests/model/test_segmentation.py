@@ -223,11 +223,15 @@ def test_explicit_wire_list_keeps_its_wire_names(make_design):
     assert order == ["vert", "top (to start)", "top (source)", "top (to end)", "tail"]
     # The ground end of the vertical wire stays at z = 0 (ground connection).
     assert m.wires[0].start[2] == 0.0
-    # The bends at both ends of 'top' are refined: finest-length segments there.
-    finest = _finest(1e-3, F_LOW_20M)
-    for name in ("vert", "top (to start)", "top (to end)", "tail"):
-        shortest = min(w.segment_length for w in m.wires if w.name == name)
-        assert shortest <= finest * (1 + GROWTH), name
+    # The bends at both ends of 'top' are refined to a quarter of the longest
+    # segment; the free tip and the ground end are not.
+    quarter = target_segment_length(d, F_MAX) / 4
+    for w in m.wires:
+        for end in (w.start, w.end):
+            at_bend = any(np.allclose(end, p) for p in ([0, 0, 5.2], [9.7, 0, 5.2]))
+            if at_bend:
+                assert quarter * 0.9 <= w.segment_length <= quarter * (1 + GROWTH), w.name
+    assert m.wires[0].segment_length > 2 * quarter      # the ground end grows on
 
 
 def test_straight_joint_is_not_a_refinement_point(make_design):
@@ -244,6 +248,25 @@ def test_straight_joint_is_not_a_refinement_point(make_design):
     near = [w.segment_length for w in b.wires if np.isclose(w.end[0], 5.0)][0]
     assert near > 4 * _finest(1e-3, F_LOW_20M)
     assert abs(a.segment_count - b.segment_count) <= 1
+
+
+@pytest.mark.parametrize("case", ["branch", "radius step"])
+def test_branches_and_radius_steps_are_refined(make_design, case):
+    # Three wires meeting, or a straight joint where the radius changes, start
+    # the grading at a quarter of the longest segment, as a bend does.
+    wires = [{"name": "a", "start": ["-10 m", "0 m", "10 m"], "end": ["0 m", "0 m", "10 m"]},
+             {"name": "b", "start": ["0 m", "0 m", "10 m"], "end": ["10 m", "0 m", "10 m"]}]
+    if case == "branch":
+        wires.append({"name": "c", "start": ["0 m", "0 m", "10 m"], "end": ["0 m", "0 m", "4 m"]})
+    else:
+        wires[1]["diameter"] = "6 mm"
+    d = make_design({"shape": "wires", "wires": wires, "feed": {"wire": "a", "position": 0.3}})
+    m = build_model(d, F_MAX)
+    quarter = target_segment_length(d, F_MAX) / 4
+    at_joint = [w for w in m.wires if any(np.allclose(p, [0, 0, 10]) for p in (w.start, w.end))]
+    assert len(at_joint) == (3 if case == "branch" else 2)
+    for w in at_joint:
+        assert quarter * 0.9 <= w.segment_length <= quarter * (1 + GROWTH), w.name
 
 
 def test_key_tracks_what_determines_a_solve(make_design):
