@@ -19,7 +19,7 @@ from scipy.constants import speed_of_light
 
 from necflow.model import build_model, check_rules, geometry, target_segment_length
 from necflow.model import rules as R
-from necflow.model.segments import FINEST_RADII, FINEST_WAVELENGTHS, GROWTH, grading
+from necflow.model.segments import GROWTH, grading
 
 F_MAX = 14.35e6
 F_LOW_20M = 14.0e6          # the test designs' band is 20 m
