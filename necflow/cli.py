@@ -47,6 +47,8 @@ def _parser() -> argparse.ArgumentParser:
     c = sub.add_parser("check", help="validate a design and print its model summary and "
                        "every modelling rule it breaks")
     c.add_argument("design", help="design file (YAML)")
+    c.add_argument("--no-convergence", action="store_true",
+                   help="skip the convergence check (it solves the top of each band twice)")
     c.set_defaults(func=cmd_check)
 
     e = sub.add_parser("evaluate", help="solve a design and write its run folder")
@@ -56,6 +58,9 @@ def _parser() -> argparse.ArgumentParser:
                    help="print results.json to stdout instead of the table")
     e.add_argument("--study", metavar="DIR", help="a study's run folder: show its best "
                    "design as the 'optimised' alternative in the report")
+    e.add_argument("--convergence", action="store_true",
+                   help="also solve the top of each band with the segments doubled and "
+                   "store the change in results.json ('convergence')")
     e.set_defaults(func=cmd_evaluate)
 
     r = sub.add_parser("report", help="rebuild report.html of a run folder (no solve)")
@@ -163,7 +168,29 @@ def cmd_check(args) -> int:
     for fd in findings:
         where = f" [{fd.wire}]" if getattr(fd, "wire", None) else ""
         print(f"{fd.severity}: {fd.rule}{where}: {fd.message}")
+    broken = any(fd.severity == "error" for fd in findings)
+    if not args.no_convergence:
+        if broken:
+            print("Convergence check skipped: the model breaks a modelling rule.")
+        else:
+            _print_convergence(design)
     return _rule_status(findings, print)
+
+
+def _print_convergence(design) -> None:
+    from necflow.analysis.convergence import check_convergence
+
+    try:
+        report = check_convergence(design)
+    except ConfigError as exc:
+        if exc.field != "model.max_segments":
+            raise
+        print(f"Convergence check skipped: {exc.message}")
+        return
+    for line in report.format():
+        print(line)
+    for c in report.cautions:
+        print(f"caution: {c}")
 
 
 def cmd_evaluate(args) -> int:
@@ -191,6 +218,19 @@ def cmd_evaluate(args) -> int:
     doc = run_folder.write_run_folder(evaluation, out, config_path=str(args.design),
                                       started=started, argv=["necflow", *sys.argv[1:]],
                                       study_dir=getattr(args, "study", None))
+    convergence = None
+    if getattr(args, "convergence", False):
+        from necflow.analysis.convergence import check_convergence
+        from necflow.report.results import write_json
+
+        try:
+            convergence = check_convergence(design)
+            doc["convergence"] = convergence.to_dict()
+        except ConfigError as exc:
+            if exc.field != "model.max_segments":
+                raise
+            doc["convergence"] = {"skipped": exc.message}
+        write_json(doc, out / "results.json")
     if args.json:
         json.dump(doc, sys.stdout, indent=1)
         print()
@@ -205,6 +245,14 @@ def cmd_evaluate(args) -> int:
                              "radio"))
     for c in evaluation.cautions:
         console.print(f"caution: {c}")
+    if convergence is not None:
+        for line in convergence.format():
+            console.print(line, markup=False)
+        for c in convergence.cautions:
+            console.print(f"caution: {c}", markup=False)
+    elif "convergence" in doc:
+        console.print(f"convergence check skipped: {doc['convergence']['skipped']}",
+                      markup=False)
     if evaluation.cautions:
         console.print(SAFETY_LINE)
     console.print(f"run folder: {out}")

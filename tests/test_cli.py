@@ -74,7 +74,7 @@ def _write(tmp_path, text):
 BASE = """
 name: rules
 bands: [20m]
-antenna: {{shape: doublet, span: 10 m, height: {height}, wire: {{diameter: {diameter}}}}}
+antenna: {{shape: doublet, span: {span}, height: {height}, wire: {{diameter: {diameter}}}}}
 ground: {{model: {ground}, surface: medium-dry}}
 feed: []
 model: {{segments_per_wavelength: {spw}}}
@@ -83,10 +83,13 @@ model: {{segments_per_wavelength: {spw}}}
 
 @pytest.mark.engine
 @pytest.mark.parametrize("params, phrase", [
-    # NEC-2 user's guide rules, from memory of Burke & Poggio 1981, Part III
-    (dict(height="10 m", diameter="2 mm", ground="sommerfeld", spw=4), "0.1 wavelength"),
-    (dict(height="10 m", diameter="400 mm", ground="sommerfeld", spw=20), "radius"),
-    (dict(height="1 m", diameter="2 mm", ground="reflection", spw=20), "reflection"),
+    # NEC-2 user's guide rules, from memory of Burke & Poggio 1981, Part III.  Segments
+    # grow from the source at 20 % per metre, so 4 per wavelength (0.25 wavelength)
+    # shows only on a wire long enough to reach that length: 60 m at 14 MHz.
+    (dict(span="60 m", height="10 m", diameter="2 mm", ground="sommerfeld", spw=4),
+     "0.1 wavelength"),
+    (dict(span="10 m", height="10 m", diameter="400 mm", ground="sommerfeld", spw=20), "radius"),
+    (dict(span="10 m", height="1 m", diameter="2 mm", ground="reflection", spw=20), "reflection"),
 ])
 def test_check_names_the_rule(params, phrase, tmp_path, capsys):
     code, out, err = _run(["check", _write(tmp_path, BASE.format(**params))], capsys)
@@ -137,8 +140,8 @@ def test_report_on_something_that_is_not_a_run_folder(tmp_path, capsys):
 def test_unwritable_run_folder_is_an_input_error(tmp_path, capsys):
     blocker = tmp_path / "file"
     blocker.write_text("x")
-    path = _write(tmp_path, BASE.format(height="10 m", diameter="2 mm", ground="sommerfeld",
-                                        spw=20))
+    path = _write(tmp_path, BASE.format(span="10 m", height="10 m", diameter="2 mm",
+                                        ground="sommerfeld", spw=20))
     code, _, err = _run(["evaluate", path, "--out", str(blocker)], capsys)
     assert code == 2 and "--out" in err and len(err.strip().splitlines()) == 1
 

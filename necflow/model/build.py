@@ -10,8 +10,8 @@ from necflow.config.schema import Design
 from necflow.errors import ConfigError
 from necflow.model.checks import check_geometry
 from necflow.model.geometry import geometry
-from necflow.model.plan import plan_wires
-from necflow.model.segments import target_segment_length
+from necflow.model.plan import expand, plan_wires
+from necflow.model.segments import grading
 from necflow.model.types import GroundModel, Wire, WireModel
 
 
@@ -40,14 +40,15 @@ def _frozen(point) -> np.ndarray:
     return out
 
 
-def build_model(design: Design, f_max_hz: float) -> WireModel:
+def build_model(design: Design, f_max_hz: float, *, density: float = 1.0) -> WireModel:
     """Segment the design's antenna for solves up to ``f_max_hz``.
 
     Runs :func:`necflow.model.check_geometry` first.  Segments are at most
-    lambda(f_max) / ``design.model.segments_per_wavelength`` long; the
-    source is a one-segment wire of its own centred on the feed point,
-    with segments of nearly equal length either side (see
-    :mod:`necflow.model.plan`).
+    lambda(f_max) / ``design.model.segments_per_wavelength`` long and
+    shorter near the source and at junctions (see :mod:`necflow.model.plan`
+    and :func:`necflow.model.segments.grading`); the source is a
+    one-segment wire of its own centred on the feed point.  A graded run of
+    a wire becomes several collinear engine wires of equal segments each.
 
     Parameters
     ----------
@@ -55,6 +56,9 @@ def build_model(design: Design, f_max_hz: float) -> WireModel:
         A validated design.
     f_max_hz : float
         Highest frequency the model will be solved at [Hz].
+    density : float, optional
+        Refinement factor: every segment length is divided by it (2 gives
+        about twice the segments, the convergence check's model).
 
     Returns
     -------
@@ -66,12 +70,19 @@ def build_model(design: Design, f_max_hz: float) -> WireModel:
     ConfigError
         From :func:`check_geometry`.
     """
-    check_geometry(design, f_max_hz)
+    check_geometry(design, f_max_hz, density=density)
     spans, feed = geometry(design)
-    planned, source = plan_wires(spans, feed, target_segment_length(design, f_max_hz))
+    g = grading(design, f_max_hz, density)
+    planned, source = plan_wires(spans, feed, g)
     # Connected ends are the very same coordinates: the plan reuses each
     # joint point, and copying keeps the values bit-identical.
-    wires = tuple(Wire(i + 1, p.name, _frozen(p.start), _frozen(p.end), float(p.radius),
-                       p.segments) for i, p in enumerate(planned))
-    return WireModel(wires=wires, feed_tag=source + 1, feed_segment=1,
+    wires: list[Wire] = []
+    feed_tag = 0
+    for i, p in enumerate(planned):
+        if i == source:
+            feed_tag = len(wires) + 1
+        for start, end, n in expand(p, g):
+            wires.append(Wire(len(wires) + 1, p.name, _frozen(start), _frozen(end),
+                              float(p.radius), n))
+    return WireModel(wires=tuple(wires), feed_tag=feed_tag, feed_segment=1,
                      ground=ground_model(design), conductivity=wire_conductivity(design))

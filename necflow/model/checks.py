@@ -14,10 +14,10 @@ from necflow.errors import ConfigError
 from necflow.model.clearance import clearance_problems
 from necflow.model.geometry import geometry
 from necflow.model.plan import plan_wires
-from necflow.model.segments import target_segment_length
+from necflow.model.segments import grading
 
 
-def check_geometry(design: Design, f_max_hz: float) -> None:
+def check_geometry(design: Design, f_max_hz: float, *, density: float = 1.0) -> None:
     """Refuse a design whose wires cannot make a sound model.
 
     Checks, in order: inverted-V legs that cannot be placed (end height
@@ -34,6 +34,8 @@ def check_geometry(design: Design, f_max_hz: float) -> None:
         A validated design.
     f_max_hz : float
         Highest frequency to be solved [Hz].
+    density : float, optional
+        Refinement factor of the segmentation (see :func:`build_model`).
 
     Raises
     ------
@@ -70,14 +72,14 @@ def check_geometry(design: Design, f_max_hz: float) -> None:
             f"({field}[{i}]){extra}; wires may meet only end to end, at a shared point "
             f"(wire '{spans[j].name}' starts at {p[0]:g}, {p[1]:g}, {p[2]:g} m)",
             field=f"{field}[{j}]" if isinstance(a, WireList) else field)
-    target = target_segment_length(design, f_max_hz)
-    planned, _ = plan_wires(spans, feed, target)
+    planned, _ = plan_wires(spans, feed, grading(design, f_max_hz, density))
     count = sum(w.segments for w in planned)
     limit = design.model.max_segments
     if count > limit:
+        refined = f", refined {density:g} times for the convergence check" if density != 1 else ""
         raise ConfigError(f"the model needs {count} segments at {f_max_hz / 1e6:g} MHz "
-                          f"({design.model.segments_per_wavelength:g} per wavelength), more than "
-                          f"the limit of {limit}; raise the limit or lower "
+                          f"({design.model.segments_per_wavelength:g} per wavelength{refined}), "
+                          f"more than the limit of {limit}; raise the limit or lower "
                           "model.segments_per_wavelength", field="model.max_segments")
     fits = limits.max_segments_for_memory()
     if count > fits:

@@ -11,11 +11,11 @@ National Laboratory, 1981 (from memory).
 
 from __future__ import annotations
 
-import itertools
 from dataclasses import dataclass
 
 import numpy as np
 from scipy.constants import speed_of_light
+from scipy.spatial import cKDTree
 
 from necflow.config.schema import Design
 from necflow.model.types import WireModel
@@ -114,23 +114,34 @@ def _ground_rules(model: WireModel, lam_max: float) -> list[Finding]:
 
 
 def _junction_rules(model: WireModel) -> list[Finding]:
+    wires = model.wires
+    if len(wires) < 2:
+        return []
+    # Only ends closer than half the longest segment can break a rule below: a
+    # k-d tree finds those pairs without trying every pair of wires (graded
+    # models have a hundred wires and more), and numpy sorts them out at once.
+    ends = np.array([p for w in wires for p in (w.start, w.end)], dtype=float)
+    seg = np.array([w.segment_length for w in wires])
+    ij = cKDTree(ends).query_pairs(0.5 * float(seg.max()), output_type="ndarray")
+    ij = np.sort(ij.reshape(-1, 2), axis=1)
+    ij = ij[ij[:, 0] // 2 != ij[:, 1] // 2]
+    gap = np.linalg.norm(ends[ij[:, 0]] - ends[ij[:, 1]], axis=1)
+    shorter = np.minimum(seg[ij[:, 0] // 2], seg[ij[:, 1] // 2])
+    keep = (gap == 0.0) | (gap < 0.5 * shorter)
     out = []
-    for a, b in itertools.combinations(model.wires, 2):
-        shorter = min(a.segment_length, b.segment_length)
-        for pa in (a.start, a.end):
-            for pb in (b.start, b.end):
-                gap = float(np.linalg.norm(pa - pb))
-                if gap == 0.0:
-                    r = max(a.segment_length, b.segment_length) / shorter
-                    if r > JUNCTION_MAX_RATIO * (1 + _SLACK):
-                        out.append(Finding(RULE_JUNCTION_RATIO, "warning",
-                                           f"segments of '{a.name}' and '{b.name}' differ by a "
-                                           f"factor {r:.3g} where they join", a.name))
-                elif gap < 0.5 * shorter:
-                    out.append(Finding(RULE_COINCIDENT_ENDS, "warning",
-                                       f"ends of '{a.name}' and '{b.name}' are {gap:.3g} m "
-                                       "apart: make them the same point if they are meant to "
-                                       "join, or move them apart", a.name))
+    for (i, j), g in sorted(zip(map(tuple, ij[keep]), gap[keep])):
+        a, b = wires[i // 2], wires[j // 2]
+        if g == 0.0:
+            r = max(a.segment_length, b.segment_length) / min(a.segment_length, b.segment_length)
+            if r > JUNCTION_MAX_RATIO * (1 + _SLACK):
+                out.append(Finding(RULE_JUNCTION_RATIO, "warning",
+                                   f"segments of '{a.name}' and '{b.name}' differ by a "
+                                   f"factor {r:.3g} where they join", a.name))
+        else:
+            out.append(Finding(RULE_COINCIDENT_ENDS, "warning",
+                               f"ends of '{a.name}' and '{b.name}' are {g:.3g} m "
+                               "apart: make them the same point if they are meant to "
+                               "join, or move them apart", a.name))
     return out
 
 

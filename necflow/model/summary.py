@@ -13,21 +13,24 @@ from necflow.model.types import WireModel
 
 @dataclass(frozen=True)
 class WireRow:
-    """Summary of one wire.
+    """Summary of one straight piece of the antenna (one or more engine
+    wires in a line: a graded piece is several).
 
     Attributes
     ----------
     name : str
     segments : int
-    segment_wavelengths : float
-        Segment length in wavelengths at the highest frequency [1].
+    shortest_wavelengths, longest_wavelengths : float
+        Shortest and longest segment in wavelengths at the highest
+        frequency [1].
     length_to_radius : float
-        Segment length divided by wire radius [1].
+        Shortest segment length divided by wire radius [1].
     """
 
     name: str
     segments: int
-    segment_wavelengths: float
+    shortest_wavelengths: float
+    longest_wavelengths: float
     length_to_radius: float
 
 
@@ -38,6 +41,8 @@ class ModelSummary:
     Attributes
     ----------
     wires : tuple of WireRow
+        One row per straight piece, consecutive engine wires of the same
+        name together.
     total_segments : int
     lowest_height_wavelengths : float
         Lowest wire point above ground in wavelengths at the lowest
@@ -59,9 +64,12 @@ class ModelSummary:
     def format(self) -> list[str]:
         """Plain text lines, one per fact (the findings are left to the
         caller, which prints them with their severity)."""
-        lines = [f"{'wire':<24} {'segments':>8} {'seg/wavelength':>15} {'seg/radius':>11}"]
+        lines = [f"{'wire':<24} {'segments':>8} {'seg/wavelength':>17} {'seg/radius':>11}"]
         for r in self.wires:
-            lines.append(f"{r.name:<24} {r.segments:>8d} {r.segment_wavelengths:>15.4f} "
+            span = (f"{r.shortest_wavelengths:.4f}" if r.longest_wavelengths
+                    <= r.shortest_wavelengths * (1 + 1e-6)
+                    else f"{r.shortest_wavelengths:.4f}-{r.longest_wavelengths:.4f}")
+            lines.append(f"{r.name:<24} {r.segments:>8d} {span:>17} "
                          f"{r.length_to_radius:>11.1f}")
         lines.append(f"total segments: {self.total_segments}")
         if self.ground_kind != "free-space":
@@ -101,8 +109,20 @@ def summarize(model: WireModel, design: Design, f_min_hz: float,
     """
     lam_min = speed_of_light / f_max_hz
     lam_max = speed_of_light / f_min_hz
-    rows = tuple(WireRow(w.name, w.segments, w.segment_length / lam_min,
-                         w.segment_length / w.radius) for w in model.wires)
+    groups: list[list] = []   # consecutive wires of one piece share its name
+    for w in model.wires:
+        if groups and groups[-1][0].name == w.name:
+            groups[-1].append(w)
+        else:
+            groups.append([w])
+    rows = []
+    for g in groups:
+        shortest = min(g, key=lambda w: w.segment_length)
+        rows.append(WireRow(g[0].name, sum(w.segments for w in g),
+                            shortest.segment_length / lam_min,
+                            max(w.segment_length for w in g) / lam_min,
+                            shortest.segment_length / shortest.radius))
+    rows = tuple(rows)
     z = min(min(float(w.start[2]), float(w.end[2])) for w in model.wires)
     h_wl = z / lam_max
     return ModelSummary(rows, model.segment_count, h_wl, model.ground.kind,

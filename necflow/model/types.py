@@ -11,6 +11,7 @@ from __future__ import annotations
 import hashlib
 import json
 from dataclasses import dataclass
+from functools import cached_property
 from typing import NamedTuple
 
 import numpy as np
@@ -62,9 +63,10 @@ class Wire:
     radius: float
     segments: int
 
-    @property
+    @cached_property
     def length(self) -> float:
-        """Wire length [m]."""
+        """Wire length [m] (computed once: graded models have many wires and
+        the rule checks ask often)."""
         return float(np.linalg.norm(self.end - self.start))
 
     @property

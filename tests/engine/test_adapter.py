@@ -115,8 +115,20 @@ def test_even_sweep_matches_single_solves(model):
     f = np.linspace(14.0e6, 14.35e6, 5)
     sweep = solve_feedpoint(model, f)
     single = np.array([solve_feedpoint(model, np.array([fi]))[0] for fi in f])
-    # One linear-step card computes f0 + i*step in MHz: round-off only.
-    np.testing.assert_allclose(sweep, single, rtol=1e-9)
+    # One linear-step card computes f0 + i*step in MHz: round-off only.  Solved
+    # one by one at exactly those frequencies the results are the same numbers.
+    f_mhz = f / 1e6
+    card = np.array([(f_mhz[0] + i * (f_mhz[1] - f_mhz[0])) * 1e6 for i in range(f.size)])
+    at_card = np.array([solve_feedpoint(model, np.array([fi]))[0] for fi in card])
+    np.testing.assert_allclose(sweep, at_card, rtol=1e-12)
+    # Against the requested frequencies (which differ from the card's in the last
+    # bit) the model's short segments beside the source amplify that round-off:
+    # at 1e-3 wavelength, the NEC-2 guide's lower limit (from memory of Burke &
+    # Poggio 1981, Part III: shorter segments lose precision as the constant and
+    # cosine terms of the current expansion become alike), a last-bit change of
+    # frequency moves the impedance by up to about 1e-8 relative (measured with
+    # this model: 9e-9), so 1e-7.
+    np.testing.assert_allclose(sweep, single, rtol=1e-7)
 
 
 @pytest.mark.engine

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import re
 
 import pytest
@@ -9,6 +10,7 @@ import pytest
 import necflow.model.build as build_module
 from necflow.errors import ConfigError
 from necflow.model import build_model, check_geometry, target_segment_length
+from necflow.model.segments import GROWTH
 
 F_MAX = 14.35e6
 PERFECT = {"model": "perfect"}
@@ -71,9 +73,19 @@ def test_wire_list_feed_off_the_wire(make_design, position):
     assert _field(make_design(ant)) == "antenna.feed.position"
 
 
+def _doublet_count(span, longest, finest, growth):
+    """Segments of a centre-fed doublet graded from its source: per side the
+    ceiling of the integral of dx / min(longest, finest + growth x), closed form."""
+    side = span / 2 - finest / 2
+    reach = (longest - finest) / growth
+    phi = (math.log1p(growth * side / finest) / growth if side <= reach else
+           math.log(longest / finest) / growth + (side - reach) / longest)
+    return 2 * math.ceil(phi - 1e-9) + 1
+
+
 def test_too_many_segments_refused_before_building(make_design, monkeypatch):
     # 2 km of wire at 30 MHz (wavelength 9.993 m) and 200 segments per wavelength
-    # needs 40 028 segments, rounded up to the next odd count.
+    # needs about 40 000 segments of 0.05 m, plus the graded ones near the source.
     def no_wires(*args, **kwargs):
         raise AssertionError("a wire was built before the segment limit was checked")
 
@@ -84,12 +96,33 @@ def test_too_many_segments_refused_before_building(make_design, monkeypatch):
         build_model(d, 30e6)
     assert info.value.field == "model.max_segments"
     count = int(re.search(r"needs (\d+) segments", info.value.message).group(1))
-    x = 2000.0 / target_segment_length(d, 30e6)
-    assert x <= count <= x + 2
+    longest = target_segment_length(d, 30e6)
+    # Finest: 1e-3 wavelength at 14.0 MHz (the design's 20 m band), above 16 radii.
+    finest = 1e-3 * 299_792_458 / 14.0e6
+    assert count == _doublet_count(2000.0, longest, finest, GROWTH)
+    assert 2000.0 / longest <= count <= 2000.0 / longest + 40
 
 
 def test_limit_is_inclusive(make_design):
-    # 21 segments at 14.35 MHz for a 20 m doublet; a limit of 21 passes, 20 refuses.
+    # A 20 m doublet at 14.35 MHz: 79 segments by the closed-form count (per side
+    # ln(1 + 0.1 * 9.989 / 0.02141) / 0.1 = 38.6, so 39); a limit of 79 passes,
+    # 78 refuses.
     ant = {"shape": "doublet", "span": "20 m", "height": "10 m"}
-    assert build_model(make_design(ant, max_segments=21), F_MAX).segment_count == 21
-    assert _field(make_design(ant, max_segments=20)) == "model.max_segments"
+    d = make_design(ant)
+    n = _doublet_count(20.0, target_segment_length(d, F_MAX), 1e-3 * 299_792_458 / 14.0e6,
+                       GROWTH)
+    assert n == 79
+    assert build_model(make_design(ant, max_segments=n), F_MAX).segment_count == n
+    assert _field(make_design(ant, max_segments=n - 1)) == "model.max_segments"
+
+
+def test_refined_model_honours_the_limit(make_design):
+    # The convergence check's model (segments doubled) is counted against the same
+    # limit before it is built, and the message says it is the refined one.
+    ant = {"shape": "doublet", "span": "20 m", "height": "10 m"}
+    d = make_design(ant, max_segments=79)
+    build_model(d, F_MAX)
+    with pytest.raises(ConfigError) as info:
+        build_model(d, F_MAX, density=2)
+    assert info.value.field == "model.max_segments"
+    assert "convergence check" in info.value.message
