@@ -172,8 +172,8 @@ def test_check_and_evaluate_share_one_rule_for_broken_modelling_rules(tmp_path, 
     fails to load the geometry).  check exits 1 listing the rules; evaluate
     (which used to exit 0 on such a model, or 3 from the engine) exits 1
     with the same rules and solves nothing."""
-    path = _write(tmp_path, BASE.format(height="10 m", diameter="900 mm", ground="sommerfeld",
-                                        spw=40))
+    path = _write(tmp_path, BASE.format(span="10 m", height="10 m", diameter="900 mm",
+                                        ground="sommerfeld", spw=40))
     code_check, out_check, _ = _run(["check", path], capsys)
     out_dir = tmp_path / "run"
     code_eval, out_eval, err_eval = _run(["evaluate", path, "--out", str(out_dir)], capsys)
