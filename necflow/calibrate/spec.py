@@ -15,7 +15,7 @@ from pydantic import BaseModel, ConfigDict, Field, field_validator
 
 class _Strict(BaseModel):
     model_config = ConfigDict(extra="forbid", validate_assignment=True,
-                              populate_by_name=True)
+                              populate_by_name=True, allow_inf_nan=False)
 
 
 class ToleranceSpec(_Strict):

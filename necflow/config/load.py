@@ -108,6 +108,7 @@ class MarkedLoader(*_Bases):  # type: ignore[misc]
         self.lines: Lines = {}
         if node is None:
             return None, self.lines
+        _check_list_lengths(node)
         _check_size(node)
         self.lines[()] = node.start_mark.line + 1
         self._mark(node, (), set())
@@ -135,11 +136,23 @@ class MarkedLoader(*_Bases):  # type: ignore[misc]
                         line=line, field=path_text(path + (key,)))
                 seen[key] = line
                 self.lines[path + (key,)] = line
+                if isinstance(key_node, yaml.ScalarNode):
+                    _printable(key_node, path + (key,))
                 self._mark(value_node, path + (key,), active)
         elif isinstance(node, yaml.SequenceNode):
             for i, item in enumerate(node.value):
                 self.lines[path + (i,)] = item.start_mark.line + 1
                 self._mark(item, path + (i,), active)
+        else:
+            _printable(node, path)
+
+
+def _printable(node: yaml.Node, path: tuple) -> None:
+    found = _CONTROL.search(node.value)
+    if found:
+        raise ConfigError(f"the value holds the control character U+{ord(found.group()):04X}; "
+                          "expected printable text", line=node.start_mark.line + 1,
+                          field=path_text(path) or None)
 
 
 for _tag, _pattern, _first in _CORE_RESOLVERS:
@@ -153,6 +166,31 @@ MarkedLoader.add_implicit_resolver("tag:yaml.org,2002:merge", re.compile(r"^(?:<
 #: Control characters no design value may hold (tab, newline and carriage
 #: return are fine in YAML text).
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
+
+
+#: Lists of a design with an upper length, checked on the parsed document
+#: before anything walks it: (path of keys, limit).
+_LIST_LIMITS = [(("bands",), limits.MAX_BANDS), (("feed",), limits.MAX_FEED_ELEMENTS),
+                (("antenna", "wires"), limits.MAX_WIRES),
+                (("report", "alternatives"), limits.MAX_ALTERNATIVES),
+                (("report", "elevations"), limits.MAX_ELEVATIONS)]
+
+
+def _check_list_lengths(root: yaml.Node) -> None:
+    """Refuse a list of a design longer than its limit, naming it."""
+    for path, limit in _LIST_LIMITS:
+        node = root
+        for key in path:
+            if not isinstance(node, yaml.MappingNode):
+                node = None
+                break
+            node = next((v for k, v in node.value
+                         if isinstance(k, yaml.ScalarNode) and k.value == key), None)
+            if node is None:
+                break
+        if isinstance(node, yaml.SequenceNode) and len(node.value) > limit:
+            raise ConfigError(f"has {len(node.value):,} entries, more than the limit of {limit}",
+                              line=node.start_mark.line + 1, field=".".join(path))
 
 
 def _check_size(root: yaml.Node) -> None:
@@ -179,10 +217,6 @@ def _check_size(root: yaml.Node) -> None:
             continue
         if key in size:
             continue
-        if isinstance(node, yaml.ScalarNode) and _CONTROL.search(node.value):
-            bad = _CONTROL.search(node.value).group()
-            raise ConfigError(f"a value holds the control character U+{ord(bad):04X}; expected "
-                              "printable text", line=node.start_mark.line + 1)
         if key in busy:
             raise ConfigError("the document refers to itself through an alias (a recursive "
                               "anchor); expected plain data", line=node.start_mark.line + 1)
@@ -190,6 +224,9 @@ def _check_size(root: yaml.Node) -> None:
         stack.append((node, True))
         stack.extend((k, False) for k in _children(node) if id(k) not in size)
     if size[id(root)] > limits.MAX_YAML_NODES:
+        if len(size) > limits.MAX_YAML_NODES:
+            raise ConfigError(f"the document holds more than {limits.MAX_YAML_NODES:,} values; "
+                              "a design is far smaller", line=root.start_mark.line + 1)
         raise ConfigError(f"the document expands to more than {limits.MAX_YAML_NODES:,} values "
                           "once its aliases (*name) are followed; a design is far smaller: "
                           "write the data out, or share less through anchors",
@@ -230,6 +267,10 @@ def parse_yaml(text: str, file: str | None = None) -> tuple[Any, Lines]:
     if len(text) > limits.MAX_DESIGN_BYTES:
         raise ConfigError(f"the text is more than {limits.MAX_DESIGN_BYTES // 1024 ** 2} MiB, "
                           "the most a design may have", file=file)
+    nul = text.find("\x00")
+    if nul >= 0:
+        raise ConfigError("the file holds a NUL byte (binary data?); expected YAML text",
+                          file=file, line=text.count("\n", 0, nul) + 1)
     loader = MarkedLoader(text)
     try:
         return loader.load_marked()

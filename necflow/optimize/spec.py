@@ -18,7 +18,7 @@ Scalar = str | float | int
 
 class _Strict(BaseModel):
     model_config = ConfigDict(extra="forbid", validate_assignment=True,
-                              populate_by_name=True)
+                              populate_by_name=True, allow_inf_nan=False)
 
 
 class SearchParam(_Strict):
