@@ -64,6 +64,8 @@ import sys
 import time
 {preamble}
 from necflow.cli import main
+import necflow.optimize.command, necflow.optimize.study, necflow.optimize.outputs  # noqa
+import necflow.config.load, necflow.pipeline, optuna, sqlalchemy, psycopg  # noqa
 if __name__ == "__main__":
     time.sleep(max(0.0, float(os.environ["NECFLOW_START_AT"]) - time.time()))
     sys.exit(main(sys.argv[1:]))
@@ -170,7 +172,7 @@ def count_trials(url: str, password: str | None, study_name: str) -> dict[str, i
 
 def run_repetition(index: int, url: str, password: str | None, folder: Path, *,
                    commands: int, workers: int, trials: int, preamble: str = "",
-                   timeout_s: float = 900.0) -> Repetition:
+                   start_delay_s: float = 8.0, timeout_s: float = 900.0) -> Repetition:
     """Start the commands together on a fresh database; check the study."""
     folder.mkdir(parents=True, exist_ok=True)
     design = folder / "design.yaml"
@@ -183,7 +185,8 @@ def run_repetition(index: int, url: str, password: str | None, folder: Path, *,
     env.pop("PGPASSWORD", None)
     if password:
         env["PGPASSWORD"] = password
-    env["NECFLOW_START_AT"] = f"{time.time() + 8.0:.3f}"   # imports take a few seconds
+    # the commands import first (a few seconds), then wait for this common moment
+    env["NECFLOW_START_AT"] = f"{time.time() + start_delay_s:.3f}"
     study = "concurrency"
     t0 = time.monotonic()
     with FreshPlace(url, password) as place:
@@ -218,14 +221,15 @@ def run_repetition(index: int, url: str, password: str | None, folder: Path, *,
 
 def run_acceptance(url: str, *, commands: int = 4, workers: int = 2, trials: int = 80,
                    repetitions: int = 10, folder: Path | None = None, preamble: str = "",
-                   say=print) -> list[Repetition]:
+                   start_delay_s: float = 8.0, say=print) -> list[Repetition]:
     """All repetitions; ``say`` gets one line per repetition."""
     url, password = split_password(url)
     base = Path(folder) if folder else Path(tempfile.mkdtemp(prefix="necflow-conc-"))
     results = []
     for k in range(repetitions):
         rep = run_repetition(k, url, password, base / f"rep-{k + 1}", commands=commands,
-                             workers=workers, trials=trials, preamble=preamble)
+                             workers=workers, trials=trials, preamble=preamble,
+                             start_delay_s=start_delay_s)
         results.append(rep)
         say(rep.line(trials))
         for e in rep.errors:

@@ -15,7 +15,8 @@ The study code (these helpers and the worker loop in
 be re-checked when optuna is upgraded: ``study._storage``,
 ``study._study_id``, ``study._thread_local``, ``trial._trial_id``,
 ``storage.create_new_trial(..., template_trial=...)``, and on RDB storages
-``storage.scoped_session`` with ``optuna.storages._rdb.models.TrialHeartbeatModel``.
+``storage._backend`` (the RDB storage inside optuna's cache wrapper), its
+``scoped_session`` and ``optuna.storages._rdb.models.TrialHeartbeatModel``.
 """
 
 from __future__ import annotations
@@ -60,6 +61,7 @@ def _without_heartbeat(storage, trial_ids: list[int]) -> set[int]:
         return set()
     from optuna.storages._rdb import models
 
+    storage = getattr(storage, "_backend", storage)   # optuna wraps an RDB storage in a cache
     session = storage.scoped_session()   # as optuna's own reads: query, commit, close
     try:
         beating = {tid for (tid,) in session.query(models.TrialHeartbeatModel.trial_id)

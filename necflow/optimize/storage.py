@@ -192,6 +192,7 @@ def study_lock(storage, study_name: str, out: Path):
     ``flock`` on ``study.lock`` beside it.  SQLite: ``flock`` on a file beside
     the database.
     """
+    storage = getattr(storage, "_backend", storage)   # optuna wraps an RDB storage in a cache
     engine = getattr(storage, "engine", None)
     if engine is not None and engine.dialect.name == "postgresql":
         return _pg_lock(engine, _lock_key(f"necflow.study:{study_name}"))
@@ -301,6 +302,14 @@ def _schema_lock(url: str, engine_kwargs: dict, postgres: bool):
     engine = sqlalchemy.create_engine(url, connect_args=engine_kwargs.get("connect_args", {}),
                                       poolclass=sqlalchemy.pool.NullPool)
     try:
+        with engine.connect() as conn:   # optuna stamps alembic_version last of all
+            ready = conn.execute(sqlalchemy.text(
+                "SELECT to_regclass('alembic_version') IS NOT NULL")).scalar() and \
+                conn.execute(sqlalchemy.text(
+                    "SELECT EXISTS (SELECT 1 FROM alembic_version)")).scalar()
+        if ready:        # tables made: optuna only reads them, no lock needed
+            yield
+            return
         with _pg_lock(engine, _lock_key("necflow.schema")):
             yield
     finally:
