@@ -14,7 +14,9 @@ database (the study tables are then created in it through the connection
 option ``search_path``).  Either is dropped at the end of the repetition.
 
 The password never goes on a command line: the commands read it from
-``PGPASSWORD`` (the URL given here may carry it; it is taken out).
+``PGPASSWORD`` (the URL given here may carry it, percent-encoded; it is
+taken out), or from the pgpass file when neither the URL nor the
+environment holds one.
 
 Usage::
 
@@ -182,8 +184,7 @@ def run_repetition(index: int, url: str, password: str | None, folder: Path, *,
     env = dict(os.environ)
     env["PYTHONPATH"] = os.pathsep.join([str(ROOT), env.get("PYTHONPATH", "")]).rstrip(
         os.pathsep)
-    env.pop("PGPASSWORD", None)
-    if password:
+    if password:                   # else the commands use PGPASSWORD or the pgpass file as set
         env["PGPASSWORD"] = password
     # the commands import first (a few seconds), then wait for this common moment
     env["NECFLOW_START_AT"] = f"{time.time() + start_delay_s:.3f}"
