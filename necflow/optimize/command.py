@@ -36,8 +36,9 @@ def options_from_args(args, design):
     timeout = parse_duration(args.timeout) if args.timeout else None
     trials = args.trials if args.trials is not None or timeout else DEFAULT_TRIALS
     out = Path(args.out) if args.out else default_out(design.name)
-    if out.exists() and not out.is_dir():
-        raise ConfigError(f"'{out}' is a file; the run folder must be a folder (new or "
+    existing = next((p for p in (out, *out.parents) if p.exists()), None)
+    if existing is not None and not existing.is_dir():
+        raise ConfigError(f"'{existing}' is a file; the run folder must be a folder (new or "
                           "existing)", field="--out")
     password_env = getattr(args, "storage_password_env", None)
     if password_env and not args.storage:

@@ -63,6 +63,9 @@ def test_out_naming_a_file_is_an_input_error(tmp_path, capsys):
     err = capsys.readouterr().err
     assert code == 2 and err.count("\n") == 1
     assert err.startswith("necflow: error: --out: ") and "is a file" in err
+    code = main(["optimize", str(design), "--out", str(tmp_path / "taken" / "below")])
+    err = capsys.readouterr().err
+    assert code == 2 and "is a file" in err and "Traceback" not in err
 
 
 def test_many_workers_pass_when_forced():

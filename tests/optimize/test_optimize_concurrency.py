@@ -18,7 +18,6 @@ import sys
 import threading
 import time
 import uuid
-from pathlib import Path
 from urllib.parse import quote, unquote, urlsplit
 
 import optuna
@@ -89,7 +88,7 @@ def test_many_workers_open_an_empty_database_at_once(tmp_path):
         with _fresh_schema(url) as fresh:
             studies = {}
 
-            def opener(i):
+            def opener(i, round_=round_, fresh=fresh, studies=studies):
                 opts = StudyOptions(out=tmp_path / f"r{round_}-w{i}", study_name="together",
                                     storage=fresh)
                 studies[i] = open_study(design, space, opts)
