@@ -1,12 +1,22 @@
 """Trial bookkeeping in the optuna storage: which trials count towards the
-budget, who owns a running trial, and closing trials whose process is gone.
+budget, taking a place in the budget, who owns a running trial, and closing
+trials whose process is gone.
+
+The budget is exact with any number of workers on any number of machines:
+a worker takes a place (:func:`take_slot`) under the study lock
+(:func:`necflow.optimize.storage.study_lock`), counting the trials that hold
+one -- RUNNING, COMPLETE, and FAIL of the design itself -- and creating its
+trial only while fewer than the budget do.  A trial that fails from an
+interruption (or whose worker died) gives its place back.
 
 The user attributes written here are the study's record of each trial.
 The study code (these helpers and the worker loop in
 :mod:`necflow.optimize.study`) relies on these private optuna internals, to
 be re-checked when optuna is upgraded: ``study._storage``,
-``study._study_id``, ``study._thread_local``, ``trial._trial_id`` and
-``storage.create_new_trial(..., template_trial=...)``.
+``study._study_id``, ``study._thread_local``, ``trial._trial_id``,
+``storage.create_new_trial(..., template_trial=...)``, and on RDB storages
+``storage._backend`` (the RDB storage inside optuna's cache wrapper), its
+``scoped_session`` and ``optuna.storages._rdb.models.TrialHeartbeatModel``.
 """
 
 from __future__ import annotations
@@ -18,7 +28,7 @@ import warnings
 
 FAIL_REASON = "necflow.fail_reason"
 COUNTED = "necflow.counted"
-DISCARDED = "necflow.discarded"
+DISCARDED = "necflow.discarded"   # studies of earlier versions: started over the budget, not run
 HOST = "necflow.host"
 PID = "necflow.pid"
 
@@ -45,33 +55,68 @@ def _alive(pid: int) -> bool:
     return True
 
 
+def _without_heartbeat(storage, trial_ids: list[int]) -> set[int]:
+    """Of these trials, those with no heartbeat record at all (RDB storage)."""
+    if not trial_ids:
+        return set()
+    from optuna.storages._rdb import models
+
+    storage = getattr(storage, "_backend", storage)   # optuna wraps an RDB storage in a cache
+    session = storage.scoped_session()   # as optuna's own reads: query, commit, close
+    try:
+        beating = {tid for (tid,) in session.query(models.TrialHeartbeatModel.trial_id)
+                   .filter(models.TrialHeartbeatModel.trial_id.in_(trial_ids))}
+        session.commit()
+    finally:
+        session.close()
+    return set(trial_ids) - beating
+
+
 def fail_orphans(study) -> int:
-    """Fail trials left RUNNING by a process that is gone; returns how many."""
+    """Fail trials left RUNNING by a process that is gone; returns how many.
+
+    RDB storage (several machines): a trial whose heartbeat has been silent
+    for the grace period, or that never sent one and started longer than the
+    grace period ago.  Journal storage (one machine): a trial whose process
+    is gone, or that has no owner and started more than 30 s ago.
+    """
     import optuna
 
     S = _states()
     storage = study._storage
-    if hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval():
+    beats = hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval()
+    n = 0
+    if beats:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
             before = len(study.get_trials(deepcopy=False, states=(S.FAIL,)))
             optuna.storages.fail_stale_trials(study)
-            return len(study.get_trials(deepcopy=False, states=(S.FAIL,))) - before
-    host, n = socket.gethostname(), 0
-    now = time.time()
-    for t in study.get_trials(deepcopy=False, states=(S.RUNNING,)):
-        pid, thost = t.user_attrs.get(PID), t.user_attrs.get(HOST)
-        started = t.datetime_start.timestamp() if t.datetime_start else now
-        dead = (pid is not None and thost == host and not _alive(int(pid))) or \
-            (pid is None and now - started > 30)
-        if dead:
-            try:
-                storage.set_trial_user_attr(t._trial_id, FAIL_REASON,
-                                            "interrupted: its worker stopped without finishing")
-                storage.set_trial_state_values(t._trial_id, S.FAIL)
-                n += 1
-            except Exception:  # another worker closed it first
-                pass
+            n = len(study.get_trials(deepcopy=False, states=(S.FAIL,))) - before
+    host, now = socket.gethostname(), time.time()
+    running = study.get_trials(deepcopy=False, states=(S.RUNNING,))
+    if beats:
+        from necflow.optimize.storage import GRACE_S
+
+        old = [t._trial_id for t in running
+               if t.datetime_start and now - t.datetime_start.timestamp() > GRACE_S]
+        silent = _without_heartbeat(storage, old)
+        orphans = [t for t in running if t._trial_id in silent]
+    else:
+        orphans = []
+        for t in running:
+            pid, thost = t.user_attrs.get(PID), t.user_attrs.get(HOST)
+            started = t.datetime_start.timestamp() if t.datetime_start else now
+            if (pid is not None and thost == host and not _alive(int(pid))) or \
+                    (pid is None and now - started > 30):
+                orphans.append(t)
+    for t in orphans:
+        try:
+            storage.set_trial_user_attr(t._trial_id, FAIL_REASON,
+                                        "interrupted: its worker stopped without finishing")
+            storage.set_trial_state_values(t._trial_id, S.FAIL)
+            n += 1
+        except Exception:  # another worker closed it first
+            pass
     return n
 
 
@@ -102,8 +147,29 @@ def ask_owned(study, host: str, pid: int):
     return optuna.trial.Trial(study, trial_id)
 
 
-def running_before(study, number: int) -> int:
-    """How many trials numbered below ``number`` are still RUNNING."""
+def slots_taken(study) -> int:
+    """Trials holding a place in the budget: RUNNING, COMPLETE, and FAIL of
+    the design itself (read in one pass, so no trial is missed while it
+    finishes)."""
     S = _states()
-    return sum(1 for t in study.get_trials(deepcopy=False, states=(S.RUNNING,))
-               if t.number < number)
+    return sum(1 for t in study.get_trials(deepcopy=False,
+                                           states=(S.RUNNING, S.COMPLETE, S.FAIL))
+               if t.state != S.FAIL or t.user_attrs.get(COUNTED))
+
+
+def take_slot(study, budget: int | None, lock, host: str, pid: int):
+    """A new trial owned by this process, or ``None`` when the budget is held.
+
+    Under ``lock`` (a context manager over every process and machine on the
+    study): count the trials holding a place; if fewer than ``budget``,
+    create the trial (a queued one first) and send its first heartbeat, so
+    that running + finished never exceeds the budget.
+    """
+    with lock:
+        if budget is not None and slots_taken(study) >= budget:
+            return None
+        trial = ask_owned(study, host, pid)
+        storage = study._storage
+        if hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval():
+            storage.record_heartbeat(trial._trial_id)
+        return trial

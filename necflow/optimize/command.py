@@ -6,6 +6,7 @@ Called by :mod:`necflow.cli` with the streams to write to; raises
 
 from __future__ import annotations
 
+import os
 import re
 from pathlib import Path
 from typing import TextIO
@@ -13,6 +14,8 @@ from typing import TextIO
 from necflow.errors import ConfigError
 
 DEFAULT_TRIALS = 100
+WORKERS_PER_CORE = 4
+MAX_SEED = 2**32 - 1     # numpy's seed range, which the samplers use
 
 
 def default_out(name: str) -> Path:
@@ -26,15 +29,47 @@ def options_from_args(args, design):
 
     if args.trials is not None and args.trials < 1:
         raise ConfigError(f"--trials must be at least 1, got {args.trials}", field="--trials")
-    if args.workers < 1:
-        raise ConfigError(f"--workers must be at least 1, got {args.workers}",
-                          field="--workers")
+    check_workers(args.workers, getattr(args, "force_workers", False))
+    if args.seed is not None and not 0 <= args.seed <= MAX_SEED:
+        raise ConfigError(f"--seed must be a whole number from 0 to {MAX_SEED}, got {args.seed}",
+                          field="--seed")
     timeout = parse_duration(args.timeout) if args.timeout else None
     trials = args.trials if args.trials is not None or timeout else DEFAULT_TRIALS
     out = Path(args.out) if args.out else default_out(design.name)
+    existing = next((p for p in (out, *out.parents) if p.exists()), None)
+    if existing is not None and not existing.is_dir():
+        raise ConfigError(f"'{existing}' is a file; the run folder must be a folder (new or "
+                          "existing)", field="--out")
+    password_env = getattr(args, "storage_password_env", None)
+    if password_env and not args.storage:
+        raise ConfigError("a password is only used with --storage (the journal file has "
+                          "none)", field="--storage-password-env")
+    if args.storage:
+        from necflow.optimize.storage import check_storage_url, storage_password
+        check_storage_url(args.storage)
+        storage_password(password_env)
     return StudyOptions(out=out, study_name=args.study or design.name, trials=trials,
                         timeout_s=timeout, workers=args.workers, storage=args.storage,
-                        seed=args.seed, cache=not getattr(args, "no_cache", False))
+                        seed=args.seed, cache=not getattr(args, "no_cache", False),
+                        storage_password_env=password_env)
+
+
+def check_workers(workers: int, force: bool = False) -> None:
+    """Refuse a worker count below 1, or above ``WORKERS_PER_CORE`` per core
+    unless forced.
+
+    Raises
+    ------
+    ConfigError
+        Naming --workers and, for a large count, --force-workers.
+    """
+    if workers < 1:
+        raise ConfigError(f"--workers must be at least 1, got {workers}", field="--workers")
+    cores = os.cpu_count() or 1
+    if workers > WORKERS_PER_CORE * cores and not force:
+        raise ConfigError(f"--workers {workers} is more than {WORKERS_PER_CORE} per core "
+                          f"({cores} core(s) here); add --force-workers to run that many",
+                          field="--workers")
 
 
 def start_trial(study):

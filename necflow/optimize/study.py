@@ -6,9 +6,18 @@ Overnight safety:
   ``necflow.fail_reason`` (an invalid variant, a failed solve, a
   non-finite cost, an interruption); the loop goes on after a failure;
 * ``trials`` is the study's total: trials that reached a verdict (COMPLETE,
-  or FAIL of the design itself) count, interrupted ones do not; a trial
-  started by one worker after another worker filled the budget is closed as
-  PRUNED with ``necflow.discarded`` and not evaluated;
+  or FAIL of the design itself) count, interrupted ones do not; a worker
+  takes a place in the budget under the study lock before it creates a
+  trial, so running + finished never exceeds the budget with any number of
+  workers and machines (see :mod:`necflow.optimize.bookkeeping`); a worker
+  that finds every place held by running trials waits for them;
+* creating the storage tables, the study, its start trial and a session's
+  number happen under locks too, so any number of commands may start on an
+  empty database at the same moment;
+* each run of the command is a new session of the study, numbered in the
+  study; the sampler seed of each worker is drawn from ``--seed``, the
+  session number and the worker's index, so a resumed study draws new
+  points and the same commands in the same order draw the same ones;
 * SIGINT/SIGTERM during a trial fail that trial ("interrupted") and stop
   the worker; outside a trial they stop it before the next one;
 * a trial left RUNNING by a killed process is failed on the next start
@@ -31,12 +40,16 @@ from pathlib import Path
 from typing import Callable
 
 from necflow.errors import ConfigError, NecflowError
-from necflow.optimize.bookkeeping import (COUNTED, DISCARDED, FAIL_REASON, ask_owned,
-                                          counted_trials, fail_orphans, running_before)
+from necflow.optimize.bookkeeping import (COUNTED, DISCARDED, FAIL_REASON, counted_trials,
+                                          fail_orphans, take_slot)
 
 __all__ = ["COUNTED", "DISCARDED", "FAIL_REASON", "Interrupted", "StudyOptions",
-           "TrialFailure", "counted_trials", "enqueue_start", "fail_orphans", "open_study",
-           "parse_duration", "run_study", "run_trial", "worker_loop"]
+           "TrialFailure", "begin_session", "counted_trials", "enqueue_start", "fail_orphans",
+           "lock_of", "open_study", "parse_duration", "run_study", "run_trial", "worker_loop",
+           "worker_seeds"]
+
+SESSIONS = "necflow.sessions"
+WAIT_S = 0.5          # a worker whose budget places are all held polls this often
 
 
 @dataclass
@@ -49,8 +62,9 @@ class StudyOptions:
     timeout_s: float | None = None
     workers: int = 1
     storage: str | None = None
-    seed: int | None = None
+    seed: int | None = None      # as given; each worker's sampler seed is drawn from it
     cache: bool = True           # keep solves in <out>/solves.sqlite for every worker and run
+    storage_password_env: str | None = None   # environment variable holding the password
 
 
 def parse_duration(text: str) -> float:
@@ -85,27 +99,66 @@ class Interrupted(KeyboardInterrupt):
 # Opening a study
 
 
+def make_sampler(seed: int | None):
+    """The sampler every worker uses, seeded with its own seed."""
+    import optuna
+
+    return optuna.samplers.TPESampler(seed=seed, constant_liar=True, multivariate=True)
+
+
+def worker_seeds(seed: int | None, session: int, workers: int) -> list[int | None]:
+    """Sampler seeds of the workers of one session: drawn from ``(seed,
+    session, worker index)`` with numpy's SeedSequence, so every session
+    and every worker draws its own points, reproducibly."""
+    if seed is None:
+        return [None] * workers
+    import numpy as np
+
+    return [int(np.random.SeedSequence([seed, session, i]).generate_state(1)[0])
+            for i in range(workers)]
+
+
+def lock_of(study, options: StudyOptions):
+    """A fresh context manager holding the study lock (see
+    :func:`necflow.optimize.storage.study_lock`)."""
+    from necflow.optimize.storage import study_lock
+
+    return study_lock(study._storage, study.study_name, options.out)
+
+
 def open_study(design, space, options: StudyOptions):
-    """Create or load the study and check it matches this design and space."""
+    """Create or load the study and check it matches this design and space.
+
+    The study is created or loaded under the study lock, so several
+    processes and machines may do it at the same moment.
+    """
     import optuna
 
     from necflow.optimize.robust import robust_plan
-    from necflow.optimize.storage import guard_resume, open_storage
+    from necflow.optimize.storage import guard_resume, open_storage, study_lock
 
     robust_plan(design, space)  # a robust setting that cannot work fails before any trial
-    storage = open_storage(options.storage, options.out)
+    storage = open_storage(options.storage, options.out, options.storage_password_env)
     n_obj = len(design.cost.objectives)
-    sampler = optuna.samplers.TPESampler(seed=options.seed, constant_liar=True,
-                                         multivariate=True)
-    try:
-        study = optuna.create_study(storage=storage, study_name=options.study_name,
-                                    directions=["minimize"] * n_obj, sampler=sampler,
-                                    load_if_exists=True)
-    except ValueError as exc:  # e.g. directions differ from the stored study
-        raise ConfigError(f"study '{options.study_name}' cannot be resumed: {exc}",
-                          field="cost.objectives") from None
-    guard_resume(study, design, space)
+    with study_lock(storage, options.study_name, options.out):
+        try:
+            study = optuna.create_study(storage=storage, study_name=options.study_name,
+                                        directions=["minimize"] * n_obj,
+                                        sampler=make_sampler(options.seed),
+                                        load_if_exists=True)
+        except ValueError as exc:  # e.g. directions differ from the stored study
+            raise ConfigError(f"study '{options.study_name}' cannot be resumed: {exc}",
+                              field="cost.objectives") from None
+        guard_resume(study, design, space)
     return study
+
+
+def begin_session(study) -> int:
+    """This run's session number in the study (0 for the first run); call
+    under the study lock."""
+    n = int(study.user_attrs.get(SESSIONS, 0))
+    study.set_user_attr(SESSIONS, n + 1)
+    return n
 
 
 def enqueue_start(study, design, space) -> bool:
@@ -202,6 +255,7 @@ class _Signals:
 
 
 def _heartbeat(storage, trial_id: int, stop: threading.Event) -> None:
+    """Beat every interval (the first beat is sent when the trial is taken)."""
     interval = storage.get_heartbeat_interval()
     while not stop.wait(interval):
         try:
@@ -239,13 +293,10 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
                 return "timeout reached"
             if options.trials is not None and len(counted_trials(study)) >= options.trials:
                 return "trial budget reached"
-            trial = ask_owned(study, host, pid)
-            if options.trials is not None and \
-                    len(counted_trials(study)) + running_before(study, trial.number) \
-                    >= options.trials:
-                trial.set_user_attr(DISCARDED, "the budget was filled by other workers")
-                study.tell(trial, state=TrialState.PRUNED)
-                return "trial budget reached"
+            trial = take_slot(study, options.trials, lock_of(study, options), host, pid)
+            if trial is None:  # the other places are held by running trials: wait for them
+                time.sleep(WAIT_S)
+                continue
             stop_beat = threading.Event()
             if beats:
                 threading.Thread(target=_heartbeat, args=(storage, trial._trial_id, stop_beat),
@@ -274,15 +325,13 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
 
 
 def _child(design, space, options: StudyOptions, index: int, solver) -> None:
-    """Entry of a spawned worker process."""
+    """Entry of a spawned worker process (``options.seed`` is its own seed)."""
     import optuna
 
     optuna.logging.set_verbosity(optuna.logging.WARNING)
-    seed = None if options.seed is None else options.seed + index
-    opts = replace(options, seed=seed)
     deadline = None if options.timeout_s is None else time.time() + options.timeout_s
     try:
-        worker_loop(design, space, opts, solver=solver, deadline=deadline)
+        worker_loop(design, space, options, solver=solver, deadline=deadline)
     except NecflowError:
         raise SystemExit(2)
 
@@ -293,12 +342,19 @@ def run_study(design, space, options: StudyOptions, *, solver=None,
 
     This process is worker 0; workers 1..N-1 are spawned processes, each with
     its own storage connection.  SIGTERM to this process is passed on to them.
+    Under the study lock the run takes its session number and, on a new
+    study, queues the starting design as the first trial.
     """
     study = open_study(design, space, options)
-    enqueue_start(study, design, space)
+    with lock_of(study, options):
+        session = begin_session(study)
+        enqueue_start(study, design, space)
+    seeds = worker_seeds(options.seed, session, max(1, options.workers))
+    study.sampler = make_sampler(seeds[0])
     deadline = None if options.timeout_s is None else time.time() + options.timeout_s
     ctx = multiprocessing.get_context("spawn")
-    children = [ctx.Process(target=_child, args=(design, space, options, i, solver),
+    children = [ctx.Process(target=_child,
+                            args=(design, space, replace(options, seed=seeds[i]), i, solver),
                             daemon=False) for i in range(1, max(1, options.workers))]
     for c in children:
         c.start()

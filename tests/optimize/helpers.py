@@ -81,3 +81,25 @@ def rendezvous_solver(model, frequency_hz):
         while len(list(folder.glob("*.here"))) < 2 and time.monotonic() < t_end:
             time.sleep(0.02)
     return dipole_like_solver(model, frequency_hz)
+
+
+def postgres_url() -> str | None:
+    """The test database URL (NECFLOW_TEST_POSTGRES_URL), None to skip; CI must set it."""
+    import pytest
+
+    url = os.environ.get("NECFLOW_TEST_POSTGRES_URL")
+    if not url and os.environ.get("CI") == "true":
+        pytest.fail("CI=true but NECFLOW_TEST_POSTGRES_URL is not set: .ci/run starts the "
+                    "server and sets it")
+    return url
+
+
+def fresh_schema_url(url: str, name: str) -> str:
+    """``url`` with the connection option ``search_path=name``: the study tables
+    are then created in (and read from) schema ``name`` only."""
+    from urllib.parse import quote, urlsplit, urlunsplit
+
+    parts = urlsplit(url)
+    option = "options=" + quote(f"-csearch_path={name}", safe="")
+    query = f"{parts.query}&{option}" if parts.query else option
+    return urlunsplit((parts.scheme, parts.netloc, parts.path, query, ""))

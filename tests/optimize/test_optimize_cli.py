@@ -3,6 +3,7 @@ killed with SIGKILL twice and resumed, a clean stop on SIGINT."""
 
 from __future__ import annotations
 
+import os
 import random
 import signal
 import subprocess
@@ -31,6 +32,19 @@ BASE = STUDY.split("search:")[0]
      "cannot reach the study storage"),
     ("  antenna.span: [22 m, 30 m]\n", ["--timeout", "8 hours"], "not a duration"),
     ("  antenna.span: [22 m, 30 m]\n", ["--trials", "0"], "--trials must be at least 1"),
+    ("  antenna.span: [22 m, 30 m]\n", ["--workers", "0"], "--workers must be at least 1"),
+    ("  antenna.span: [22 m, 30 m]\n", ["--workers", "-2"], "--workers must be at least 1"),
+    ("  antenna.span: [22 m, 30 m]\n", ["--workers", str(4 * (os.cpu_count() or 1) + 1)],
+     "add --force-workers"),
+    ("  antenna.span: [22 m, 30 m]\n", ["--seed", "-1"], "--seed must be a whole number"),
+    ("  antenna.span: [22 m, 30 m]\n", ["--seed", str(2**32)], "--seed must be a whole number"),
+    ("  antenna.span: [22 m, 30 m]\n",
+     ["--storage", "postgresql://ann:s3cret#x@y@127.0.0.1:1/s"], "percent-encode"),
+    ("  antenna.span: [22 m, 30 m]\n", ["--storage-password-env", "NECFLOW_TEST_PW"],
+     "only used with --storage"),
+    ("  antenna.span: [22 m, 30 m]\n",
+     ["--storage", "postgresql://ann@127.0.0.1:1/s", "--storage-password-env",
+      "NECFLOW_NO_SUCH_VARIABLE"], "NECFLOW_NO_SUCH_VARIABLE holds no password"),
 ])
 def test_input_errors_are_one_line_exit_2(tmp_path, capsys, search, extra, words):
     design = write_study(tmp_path, BASE + "search:\n" + search)
@@ -40,6 +54,25 @@ def test_input_errors_are_one_line_exit_2(tmp_path, capsys, search, extra, words
     assert code == 2
     assert len(lines) == 1 and words in lines[0]
     assert "Traceback" not in err and "s3cret" not in err
+
+
+def test_out_naming_a_file_is_an_input_error(tmp_path, capsys):
+    design = write_study(tmp_path, BASE + "search:\n  antenna.span: [22 m, 30 m]\n")
+    (tmp_path / "taken").write_text("a file, not a folder")
+    code = main(["optimize", str(design), "--out", str(tmp_path / "taken")])
+    err = capsys.readouterr().err
+    assert code == 2 and err.count("\n") == 1
+    assert err.startswith("necflow: error: --out: ") and "is a file" in err
+    code = main(["optimize", str(design), "--out", str(tmp_path / "taken" / "below")])
+    err = capsys.readouterr().err
+    assert code == 2 and "is a file" in err and "Traceback" not in err
+
+
+def test_many_workers_pass_when_forced():
+    from necflow.optimize.command import check_workers
+
+    check_workers(4 * (os.cpu_count() or 1) + 1, force=True)   # no error
+    check_workers(4 * (os.cpu_count() or 1))                    # the bound itself is allowed
 
 
 def _journal_study(run):
