@@ -102,7 +102,10 @@ def _parser() -> argparse.ArgumentParser:
     b = sub.add_parser("batch", help="evaluate or optimise a matrix of variants of a design")
     b.add_argument("study", help="batch file (YAML): base design, matrix of overrides, mode")
     b.add_argument("--workers", type=int, default=1, metavar="N",
-                   help="cells run in parallel (default 1)")
+                   help="cells run in parallel (default 1; at most 4 per core unless "
+                   "--force-workers)")
+    b.add_argument("--force-workers", action="store_true",
+                   help="allow more than 4 workers per core")
     b.add_argument("--storage", metavar="URL", help="shared storage for optimised cells")
     b.add_argument("--out", metavar="DIR", help="batch folder (default runs/<batch>-batch)")
     b.set_defaults(func=cmd_batch)
@@ -131,8 +134,9 @@ def main(argv: list[str] | None = None) -> int:
         if args.debug:
             traceback.print_exc()
         design = getattr(args, "design", None)
-        if (isinstance(exc, ConfigError) and exc.file is None and design
-                and not (exc.field or "").startswith("--")):
+        if (isinstance(exc, ConfigError) and design and exc.line is None
+                and exc.file in (None, str(design)) and exc.field
+                and not exc.field.startswith("--")):
             from necflow.config.load import locate
             exc = locate(exc, design)
         print(f"necflow: error: {exc}", file=sys.stderr)
@@ -209,9 +213,9 @@ def cmd_evaluate(args) -> int:
 
     started = run_folder.now_utc()
     design = load_design(args.design)
-    if args.study is not None and not Path(args.study).is_dir():
-        raise ConfigError(f"'{args.study}' is not a folder; expected a study's run folder "
-                          "(with best.yaml)", field="--study")
+    if args.study is not None and not (Path(args.study) / "best.yaml").is_file():
+        raise ConfigError(f"'{args.study}' is not a study's run folder (it holds no best.yaml); "
+                          "expected the --out folder of 'necflow optimize'", field="--study")
     try:
         evaluation = evaluate(design, refuse_broken_rules=True)
     except RulesBroken as exc:

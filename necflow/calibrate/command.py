@@ -9,6 +9,11 @@ from necflow import fileio, units
 from necflow.errors import ConfigError, GoalNotMet, NecflowError
 
 
+#: Most tolerance cases in one run (each case is a feed-chain evaluation over
+#: every point; 100,000 cases of 100 points take minutes and hundreds of MB).
+MAX_SAMPLES = 100_000
+
+
 def add_parsers(sub) -> None:
     """Add the three sub-commands to the CLI's sub-parsers."""
     f = sub.add_parser("fit", help="fit uncertain fields of a design to measured sweeps "
@@ -51,9 +56,37 @@ def add_parsers(sub) -> None:
     m.set_defaults(func=run_tolerance)
 
 
-def _ranges(options: list[str]) -> dict:
+def _ranges(options: list[str], option: str) -> dict:
     from necflow.calibrate.params import parse_range_option
-    return dict(parse_range_option(o) for o in options)
+    return dict(parse_range_option(o, option) for o in options)
+
+
+def _checked_ranges(design, options: list[str], option: str) -> dict:
+    """Ranges from the command line, checked against the design; errors name
+    the option (the design file does not hold them)."""
+    from necflow.calibrate.params import build_params
+
+    section = _ranges(options, option)
+    try:
+        build_params(design, section, key="range")
+    except ConfigError as exc:
+        path = (exc.field or "").removeprefix("range.")
+        raise ConfigError(f"{path}: {exc.message}", field=option) from None
+    return section
+
+
+def _seed(value: int | None, option: str = "--seed") -> None:
+    if value is not None and not 0 <= value < 2 ** 32:
+        raise ConfigError(f"{value} is not a seed; expected a whole number from 0 to "
+                          f"{2 ** 32 - 1}", field=option)
+
+
+def _out_folder(path: Path) -> Path:
+    for p in (path, *path.parents):
+        if p.exists() and not p.is_dir():
+            raise ConfigError(f"'{p}' is a file; expected a folder to write into",
+                              field="--out")
+    return path
 
 
 def _fmt(p, v) -> str:
@@ -71,9 +104,10 @@ def run_fit(args) -> int:
     from necflow.measure.overlay import compare, overlay_figure
 
     design = load_design(args.design)
-    if args.starts < 1:
-        raise ConfigError(f"give at least one starting point, got {args.starts}",
+    if not 1 <= args.starts <= 1000:
+        raise ConfigError(f"give 1 to 1000 starting points, got {args.starts}",
                           field="--starts")
+    _seed(args.seed)
     z_ref = design.radio.impedance
     if args.reference:
         try:
@@ -86,14 +120,14 @@ def run_fit(args) -> int:
     bands = resolve_bands(design)
     for s in sweeps:
         check_overlap(s, bands)
-    section = {**design.uncertain, **_ranges(args.vary)}
+    section = {**design.uncertain, **_checked_ranges(design, args.vary, "--vary")}
     params = build_params(design, section, key="uncertain", file=args.design)
     responder = Responder(design, sweeps)
     result = fit_design(design, sweeps, params, starts=args.starts, seed=args.seed,
                         responder=responder)
     before, model = compare(design, sweeps, responder)
     after, calibrated = compare(result.design, sweeps, responder)
-    out = Path(args.out) if args.out else Path("runs") / f"{design.name}-fit"
+    out = _out_folder(Path(args.out) if args.out else Path("runs") / f"{design.name}-fit")
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
@@ -137,14 +171,24 @@ def run_trim(args) -> int:
     from necflow.config.load import load_design
     from necflow.config.resolve import resolved_yaml
 
+    from necflow.calibrate.trim import resolve_targets
+
     design = load_design(args.design)
-    targets = dict(design.targets)
+    _seed(args.seed)
+    given = {}
     for t in args.target:
         if "=" not in t:
             raise ConfigError(f"'{t}' is not BAND=FREQ or BAND=centre", field="--target")
         k, v = t.split("=", 1)
-        targets[k.strip()] = v.strip()
-    adjust = _ranges(args.adjust) if args.adjust else None
+        given[k.strip()] = v.strip()
+    if given:
+        try:
+            resolve_targets(design, given)
+        except ConfigError as exc:
+            band = (exc.field or "").removeprefix("targets.")
+            raise ConfigError(f"{band}: {exc.message}", field="--target") from None
+    targets = {**design.targets, **given}
+    adjust = _checked_ranges(design, args.adjust, "--adjust") if args.adjust else None
     r = trim_design(design, targets, adjust, seed=args.seed)
     print(f"{design.name}: targets " + ", ".join(
         f"{t.band.name} {t.frequency_hz / 1e6:.4g} MHz" + (" (centre)" if t.how == "centre"
@@ -184,8 +228,10 @@ def run_tolerance(args) -> int:
     from necflow.config.load import load_design
 
     design = load_design(args.design)
-    if args.samples is not None and args.samples < 1:
-        raise ConfigError("give at least one case", field="--samples")
+    if args.samples is not None and not 1 <= args.samples <= MAX_SAMPLES:
+        raise ConfigError(f"give 1 to {MAX_SAMPLES:,} cases, got {args.samples}",
+                          field="--samples")
+    _seed(args.seed)
     r = monte_carlo(design, samples=args.samples, seed=args.seed)
     rows = r.band_table()
     if args.json:

@@ -60,12 +60,13 @@ def build_params(design: Design, section: dict[str, SearchParam], *, key: str,
     return params
 
 
-def parse_range_option(text: str) -> tuple[str, SearchParam]:
+def parse_range_option(text: str, option: str = "--vary") -> tuple[str, SearchParam]:
     """``'antenna.height=10 m,13 m'`` -> (path, SearchParam) for the command line;
-    ``'path=a,b,log'`` samples in the logarithm."""
+    ``'path=a,b,log'`` samples in the logarithm.  ``option`` names the
+    command-line option in errors."""
     if "=" not in text:
         raise ConfigError(f"'{text}' is not PATH=LOW,HIGH (e.g. 'antenna.height=10 m,13 m')",
-                          field="--vary")
+                          field=option)
     path, rng = text.split("=", 1)
     parts = [p.strip() for p in rng.split(",")]
     scale = "linear"
@@ -73,7 +74,7 @@ def parse_range_option(text: str) -> tuple[str, SearchParam]:
         scale = "log"
         parts = parts[:2]
     if len(parts) != 2:
-        raise ConfigError(f"'{text}': give two bounds, PATH=LOW,HIGH", field="--vary")
+        raise ConfigError(f"'{text}': give two bounds, PATH=LOW,HIGH", field=option)
     vals: list[Any] = []
     for v in parts:
         try:

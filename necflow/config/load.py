@@ -293,15 +293,22 @@ def locate(error: ConfigError, path: str | os.PathLike) -> ConfigError:
     or of its nearest parent the file has.  Never raises: if the file cannot
     be read again the error is returned with the file name alone.
     """
-    if error.file is not None:
+    if error.line is not None or (error.file is not None and error.file != os.fspath(path)):
         return error
     line = None
     try:
         _, lines = parse_yaml(Path(path).read_text(encoding="utf-8"), file=str(path))
         where = parse_path(error.field or "")
-        while where and where not in lines:
+        line = None
+        while where and line is None:
+            # a key may hold dots itself (search, uncertain and adjustable
+            # sections are keyed by field paths): try the tail joined up
+            for k in range(len(where)):
+                joined = where[:k] + (".".join(map(str, where[k:])),)
+                if joined in lines:
+                    line = lines[joined]
+                    break
             where = where[:-1]
-        line = lines.get(where) if where else None  # a missing top-level key has no line
     except (OSError, UnicodeDecodeError, ConfigError):
         pass
     return ConfigError(error.message, file=str(path), line=line, field=error.field)

@@ -254,6 +254,9 @@ def _message(err: dict, data: Any) -> tuple[str, tuple]:
     if etype == "too_long":
         n = ctx.get("max_length")
         return (f"has more than {n} entries, the most this field may have", path)
+    if etype == "string_too_long":
+        n = ctx.get("max_length")
+        return (f"is longer than {n} characters, the most this field may have", path)
     if etype in ("too_short", "string_too_short"):
         n = ctx.get("min_length", 1)
         if etype == "string_too_short":

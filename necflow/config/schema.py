@@ -391,7 +391,7 @@ class LineElement(Strict):
     balanced: StrictBool | None = Field(None, description="Whether the line is balanced (two-wire) "
                                   "rather than coax (default: the catalog type's; false for "
                                   "custom lines)")
-    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0,
+    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0, le=1e6,
                                               description="Peak voltage rating, for stress margins")
 
     @model_validator(mode="after")
@@ -425,11 +425,11 @@ class PartElement(Strict):
                             "(default: 1000 for capacitors, 200 for inductors)")
     esr: Resistance | None = quantity("resistance", default=None, ge=0,
                                       description="Equivalent series resistance (instead of Q)")
-    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0,
+    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0, le=1e6,
                                               description="Peak voltage rating")
-    current_rating: Current | None = quantity("current", default=None, gt=0,
+    current_rating: Current | None = quantity("current", default=None, gt=0, le=1e4,
                                               description="RMS current rating")
-    power_rating: Power | None = quantity("power", default=None, gt=0,
+    power_rating: Power | None = quantity("power", default=None, gt=0, le=1e6,
                                           description="Dissipation rating")
 
     @model_validator(mode="before")
@@ -529,9 +529,9 @@ class TransformerElement(Strict):
         "series", description="Where the loss is dissipated: series (winding resistance, the "
         "differential-mode loss of a current balun) or pad (a matched attenuator, part of it "
         "as shunt core loss of a voltage transformer)")
-    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0,
+    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0, le=1e6,
                                               description="Peak voltage rating")
-    power_rating: Power | None = quantity("power", default=None, gt=0,
+    power_rating: Power | None = quantity("power", default=None, gt=0, le=1e6,
                                           description="Power rating")
 
 
@@ -683,7 +683,8 @@ class ReportSpec(Strict):
 class Design(Strict):
     """A complete antenna system: radiator, ground, feed chain and radio."""
 
-    name: str = Field(..., min_length=1, description="Name of the design (used in run folders)")
+    name: str = Field(..., min_length=1, max_length=200,
+                      description="Name of the design (used in run folders)")
     description: str = Field("", description="Free text")
     region: Literal[1, 2, 3] = Field(2, description="ITU region of the built-in band table")
     bands: list[BandEntry] = Field(..., min_length=1, max_length=limits.MAX_BANDS,

@@ -32,10 +32,10 @@ def check_frequencies(f: np.ndarray, lines, *, file: str, field: str | None = No
     ConfigError
         One line with file, line and ``field``.
     """
-    bad = np.flatnonzero(~(f > 0))
+    bad = np.flatnonzero(~((f > 0) & np.isfinite(f)))
     if bad.size:
-        raise ConfigError("frequencies must be positive", file=file, line=lines[bad[0]],
-                          field=field)
+        raise ConfigError("frequencies must be positive finite numbers", file=file,
+                          line=lines[bad[0]], field=field)
     dec = np.flatnonzero(~(np.diff(f) > 0))
     if dec.size:
         raise ConfigError(f"frequencies must increase from {row} to {row}", file=file,

@@ -27,16 +27,20 @@ from pathlib import Path
 from typing import Any, Literal
 
 import yaml
-from pydantic import BaseModel, ConfigDict, Field, ValidationError
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_validator
 
 from necflow import fileio
 from necflow.errors import ConfigError
 
 
+#: Most cells in one batch (each is an evaluation or a whole study).
+MAX_CELLS = 10_000
+
+
 class BatchSpec(BaseModel):
     """The batch file."""
 
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
 
     name: str = Field(..., min_length=1, description="Name of the batch (run folder)")
     base: str = Field(..., description="Base design file, relative to the batch file")
@@ -45,6 +49,16 @@ class BatchSpec(BaseModel):
     seed: int | None = Field(None, description="Sampler seed of every cell (optimize mode)")
     matrix: dict[str, list[Any]] = Field(..., min_length=1, description="Field path -> "
                                          "alternatives; the cells are every combination")
+
+    @model_validator(mode="after")
+    def _cell_count(self) -> "BatchSpec":
+        n = 1
+        for values in self.matrix.values():
+            n *= max(len(values), 1)
+            if n > MAX_CELLS:
+                raise ValueError(f"matrix: more than {MAX_CELLS:,} cells (every combination "
+                                 "of the values); split the batch")
+        return self
 
 
 def _set(data: dict, path: str, value: Any) -> None:
@@ -105,7 +119,11 @@ def load_batch(path) -> tuple[BatchSpec, list[tuple[str, dict, str]]]:
     except ValidationError as exc:
         e = exc.errors(include_url=False)[0]
         loc = tuple(e["loc"])
-        raise ConfigError(e["msg"], file=name, line=_line(loc, lines),
+        msg = re.sub(r"^(Value|Assertion) error, ", "", e["msg"])
+        m = re.match(r"(\w+): (.*)$", msg)
+        if not loc and m and m.group(1) in BatchSpec.model_fields:
+            loc, msg = (m.group(1),), m.group(2)
+        raise ConfigError(msg, file=name, line=_line(loc, lines),
                           field=".".join(map(str, loc)) or None) from None
     base_path = Path(path).parent / spec.base
     if not base_path.is_file():
@@ -267,8 +285,9 @@ def run_batch_command(args, out, err) -> int:
     from rich.console import Console
     from rich.table import Table
 
-    if args.workers < 1:
-        raise ConfigError(f"--workers must be at least 1, got {args.workers}", field="--workers")
+    from necflow.optimize.command import check_workers
+
+    check_workers(args.workers, getattr(args, "force_workers", False))
     spec, summaries, skipped, folder = run_batch(
         args.study, Path(args.out) if args.out else None, workers=args.workers,
         storage=args.storage)

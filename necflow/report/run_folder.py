@@ -37,7 +37,7 @@ def now_utc() -> datetime:
 def default_run_dir(name: str, base: Path = Path("runs"), when: datetime | None = None) -> Path:
     """``runs/<name>-YYYYmmdd-HHMMSS``, with a suffix if that folder exists."""
     stamp = (when or now_utc()).strftime("%Y%m%d-%H%M%S")
-    safe = re.sub(r"[^A-Za-z0-9_.-]+", "-", name).strip("-") or "design"
+    safe = re.sub(r"[^A-Za-z0-9_.-]+", "-", name).strip("-.")[:60] or "design"
     path = base / f"{safe}-{stamp}"
     n = 1
     while path.exists():
