@@ -128,11 +128,12 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
     if first is not None:
         console.print(f"starting design: objective "
                       f"{', '.join(f'{v:.4g}' for v in first.values)} (trial {first.number})")
-    console.print(f"best design: objective "
-                  f"{', '.join(f'{v:.4g}' for v in result.best_trial.values)} "
-                  f"(trial {result.best_trial.number})")
+    console.print(f"best design (trial {result.best_trial.number}) at a buildable precision: "
+                  f"objective {', '.join(f'{v:.4g}' for v in result.objective)} as written "
+                  f"({', '.join(f'{v:.4g}' for v in result.best_trial.values)} unrounded)")
     for p in space.params:
-        console.print(f"  {p.path} = {p.text(result.best_trial.params[p.path])}")
+        if p.path in result.values:
+            console.print(f"  {p.path} = {p.text(result.values[p.path])}")
     if not args.report_only:
         before = evaluate(design, solver=solver)
         out.write(band_table_text(before, f"before: {design.name} as written"))

@@ -16,6 +16,7 @@ import sys
 from dataclasses import dataclass
 from pathlib import Path
 
+from necflow import fileio
 from necflow.errors import NecflowError
 from necflow.optimize.storage import redact_url
 
@@ -24,10 +25,20 @@ LEADERBOARD_ROWS = 25
 
 @dataclass
 class StudyOutputs:
+    """What :func:`write_outputs` wrote.
+
+    ``best_design`` is the best trial's design at a buildable precision
+    (:meth:`Param.buildable`), ``values`` its searched values, and
+    ``objective`` the study's objectives of that design as written (the
+    trial's own values differ by the rounding).
+    """
+
     best_trial: object
     best_design: object
     evaluation: object
     folder: Path
+    values: dict
+    objective: tuple
 
 
 def best_trial(study):
@@ -88,14 +99,30 @@ def leaderboard_csv(study, space, objectives) -> str:
     return buf.getvalue()
 
 
-def best_yaml(design, study, trial, storage_shown: str) -> str:
-    """The best design as resolved YAML, with comment lines naming its study."""
+def best_yaml(design, study, trial, storage_shown: str, objective=None) -> str:
+    """The best design as resolved YAML, with comment lines naming its study
+    and its objective as written (``objective``) beside the trial's."""
     from necflow.config.resolve import resolved_yaml
 
-    values = ", ".join(f"{v:.6g}" for v in trial.values)
-    head = (f"# Best design of study '{study.study_name}' (trial {trial.number}, "
-            f"objective {values})\n# storage: {redact_url(storage_shown)}\n")
+    searched = ", ".join(f"{v:.6g}" for v in trial.values)
+    written = ", ".join(f"{v:.6g}" for v in (objective or trial.values))
+    head = (f"# Best design of study '{study.study_name}' (trial {trial.number}), values at a "
+            f"buildable precision.\n# Objective of this design as written: {written} (the "
+            f"trial's unrounded values: {searched})\n# storage: {redact_url(storage_shown)}\n")
     return head + resolved_yaml(design)
+
+
+def objective_as_written(design, variant, evaluation, solver=None) -> tuple:
+    """The study's objectives of ``variant`` (robust ones over the study's
+    cases when ``cost.robust`` is set)."""
+    from necflow.optimize.cost import score
+    from necflow.optimize.evaluator import ResponseCache
+    from necflow.optimize.robust import robust_plan, robust_score
+
+    plan = robust_plan(design)
+    if plan is None:
+        return score(evaluation, design.cost).values
+    return robust_score(variant, plan, ResponseCache(solver)).values
 
 
 def band_table_text(evaluation, title: str) -> str:
@@ -128,14 +155,17 @@ def write_outputs(study, design, space, out: Path, *, storage_shown: str,
     started = run_folder.now_utc()
     out.mkdir(parents=True, exist_ok=True)
     trial = best_trial(study)
-    variant = apply(design, trial.params)
+    values = {p.path: p.buildable(trial.params[p.path]) for p in space.params
+              if p.path in trial.params}
+    variant = apply(design, values)
     evaluation = evaluate(variant, solver=solver)
+    objective = objective_as_written(design, variant, evaluation, solver)
     best_path = out / "best.yaml"
-    best_path.write_text(best_yaml(variant, study, trial, storage_shown), encoding="utf-8")
-    (out / "leaderboard.csv").write_text(
-        leaderboard_csv(study, space, design.cost.objectives), encoding="utf-8")
-    (out / "best-bands.txt").write_text(
-        band_table_text(evaluation, f"best of study '{study.study_name}' (trial "
-                        f"{trial.number})"), encoding="utf-8")
+    fileio.write_text(best_path, best_yaml(variant, study, trial, storage_shown, objective))
+    fileio.write_text(out / "leaderboard.csv",
+                      leaderboard_csv(study, space, design.cost.objectives))
+    fileio.write_text(out / "best-bands.txt",
+                      band_table_text(evaluation, f"best of study '{study.study_name}' (trial "
+                                      f"{trial.number}, as written)"))
     write_evaluation(evaluation, out / "best", config_path=str(best_path), started=started)
-    return StudyOutputs(trial, variant, evaluation, out)
+    return StudyOutputs(trial, variant, evaluation, out, values, tuple(objective))

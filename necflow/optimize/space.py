@@ -14,6 +14,8 @@ limits, and the designs at the corners of the space pass the whole schema.
 
 from __future__ import annotations
 
+import math
+
 import json
 from dataclasses import asdict, dataclass, field
 from typing import Any
@@ -66,6 +68,31 @@ class Param:
         if self.choices is not None:
             return trial.suggest_categorical(self.path, list(self.choices))
         return trial.suggest_float(self.path, self.low, self.high, log=self.log, step=self.step)
+
+    def buildable(self, value: Any) -> Any:
+        """``value`` at the precision a builder can cut or buy.
+
+        A choice is kept; a value on a stepped range snaps to the nearest
+        step; otherwise a length is rounded to 1 mm (a tape measure's
+        resolution, common practice) and anything else (part values,
+        velocity factors, ground constants) to three significant figures (a
+        part's marked value rarely has more; common practice).  The result
+        stays within the range.
+        """
+        if self.choices is not None or not isinstance(value, (int, float)):
+            return value
+        v = float(value)
+        if self.step:
+            v = self.low + round((v - self.low) / self.step) * self.step
+            v = float(f"{v:.12g}")
+        elif self.dimension == "length":
+            v = round(v, 3)
+        elif v != 0.0 and math.isfinite(v):
+            v = float(f"{v:.3g}")
+        lo, hi = self.low, self.high
+        if lo is not None and hi is not None:
+            v = min(max(v, lo), hi)
+        return v
 
     def text(self, value: Any) -> str:
         """A value of this parameter as the user writes it."""
