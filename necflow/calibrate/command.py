@@ -71,7 +71,8 @@ def _checked_ranges(design, options: list[str], option: str) -> dict:
         build_params(design, section, key="range")
     except ConfigError as exc:
         path = (exc.field or "").removeprefix("range.")
-        raise ConfigError(f"{path}: {exc.message}", field=option) from None
+        message = exc.message if f"'{path}'" in exc.message else f"{path}: {exc.message}"
+        raise ConfigError(message, field=option) from None
     return section
 
 

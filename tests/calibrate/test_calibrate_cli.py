@@ -42,7 +42,7 @@ def test_two_port_and_missing_file(tmp_path, capsys):
 
 def test_bad_vary_and_target(capsys):
     _one_line_error(capsys, ["fit", DESIGN, str(MEASURED / "field-doublet-radio.s1p"),
-                             "--vary", "antenna.nothing=1 m,2 m"], "uncertain.antenna.nothing")
+                             "--vary", "antenna.nothing=1 m,2 m"], "--vary: 'antenna.nothing'")
     _one_line_error(capsys, ["trim", DESIGN, "--target", "20m=centre"], "no band '20m'")
 
 

@@ -132,8 +132,11 @@ def test_outputs_best_design_reads_back(tmp_path):
     for p in space.params:
         assert getattr(best.antenna if p.path.startswith("antenna") else
                        best.feed[[e.id for e in best.feed].index(p.path.split(".")[1])],
-                       p.path.split(".")[-1]) == pytest.approx(out.best_trial.params[p.path],
+                       p.path.split(".")[-1]) == pytest.approx(out.values[p.path],
                                                                rel=1e-12)
+        # the written value is the trial's at a buildable precision
+        assert out.values[p.path] == pytest.approx(p.buildable(out.best_trial.params[p.path]),
+                                                   rel=1e-12)
     text = (tmp_path / "run" / "best.yaml").read_text()
     assert text.startswith("# Best design of study 's' (trial ")
     rows = list(csv.DictReader(open(tmp_path / "run" / "leaderboard.csv")))
