@@ -127,7 +127,8 @@ def plain_loop(design, space, target: float, budget_s: float, seed: int = 1) -> 
     import optuna
 
     from necflow.optimize.cost import score
-    from necflow.optimize.space import apply, check_variant
+    from necflow.model import check_variant
+    from necflow.config.fields import apply
     from necflow.optimize.study import enqueue_start
     from necflow.pipeline import evaluate
 
@@ -163,7 +164,7 @@ def solve_rate(design, workers: int) -> dict:
     from necflow.catalog.bands import resolve_bands
     from necflow.engine.parallel import ParallelSolver
     from necflow.model import build_model
-    from necflow.optimize.space import apply
+    from necflow.config.fields import apply
     from necflow.pipeline import band_points
 
     f, _ = band_points(resolve_bands(design))
@@ -185,7 +186,7 @@ def memory_growth(design, space, cache, n_total: int = 10_000, seed: int = 3) ->
     """Resident memory after 100 and after ``n_total`` scored variants (full
     pipeline, antenna responses from the cache: the steady state of a study)."""
     from necflow.optimize.evaluator import score_design
-    from necflow.optimize.space import apply
+    from necflow.config.fields import apply
 
     rng = np.random.default_rng(seed)
     geo = [p for p in space.params if p.geometry]

@@ -121,6 +121,13 @@ def parse(value: object, dimension: str) -> float:
     return out
 
 
+def finite(value: float, dimension: str) -> float:
+    """``value`` [SI] if it is a finite number, else a UnitError."""
+    if not math.isfinite(value):
+        raise UnitError(f"{value!r} is not a finite {dimension}")
+    return float(value)
+
+
 def _a(word: str) -> str:
     return ("an " if word[0] in "aeiou" else "a ") + word
 

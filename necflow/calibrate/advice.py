@@ -36,7 +36,7 @@ def cm_in(metres: float) -> str:
 
 
 def _kind(design, path: str) -> str:
-    from necflow.optimize.space import locate
+    from necflow.config.fields import locate
     owner, name = locate(design, path)
     return getattr(owner, "kind", "") if name == "value" else ""
 

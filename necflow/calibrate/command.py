@@ -57,14 +57,14 @@ def add_parsers(sub) -> None:
 
 
 def _ranges(options: list[str], option: str) -> dict:
-    from necflow.calibrate.params import parse_range_option
+    from necflow.config.fields import parse_range_option
     return dict(parse_range_option(o, option) for o in options)
 
 
 def _checked_ranges(design, options: list[str], option: str) -> dict:
     """Ranges from the command line, checked against the design; errors name
     the option (the design file does not hold them)."""
-    from necflow.calibrate.params import build_params
+    from necflow.config.fields import build_params
 
     section = _ranges(options, option)
     try:
@@ -96,7 +96,7 @@ def _fmt(p, v) -> str:
 
 def run_fit(args) -> int:
     from necflow.calibrate.fit import fit_design
-    from necflow.calibrate.params import build_params
+    from necflow.config.fields import build_params
     from necflow.calibrate.response import Responder
     from necflow.catalog.bands import resolve_bands
     from necflow.config.load import load_design

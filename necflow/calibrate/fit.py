@@ -22,8 +22,8 @@ from scipy.optimize import least_squares
 from necflow.config.schema import Design
 from necflow.errors import ConfigError, ModelError
 from necflow.measure.types import Measurement
-from necflow.optimize.space import Param
-from necflow.calibrate.params import (current_value, from_unit, set_values, to_unit,
+from necflow.config.fields import Param
+from necflow.config.fields import (current_value, from_unit, set_values, to_unit,
                                       unit_scale)
 from necflow.calibrate.response import Responder, gammas
 

@@ -21,9 +21,9 @@ from necflow import units
 from necflow.catalog.bands import resolve_bands
 from necflow.config.schema import Design
 from necflow.errors import ConfigError
-from necflow.optimize.space import _dimension, locate
+from necflow.config.fields import dimension_of, locate
 from necflow.pipeline import band_points
-from necflow.calibrate.params import ground_explicit, set_values
+from necflow.config.fields import ground_explicit, set_values
 from necflow.calibrate.response import Responder
 
 
@@ -63,7 +63,7 @@ def parse_tolerances(design: Design) -> list[Tolerance]:
         nominal = getattr(owner, name)
         if not isinstance(nominal, (int, float)) or isinstance(nominal, bool):
             raise ConfigError("not a numeric field; a tolerance needs a number", field=where)
-        dim = _dimension(owner, name)
+        dim = dimension_of(owner, name)
         t = str(text).strip()
         fraction = None
         if t.endswith("%"):
@@ -153,7 +153,7 @@ class Case:
 
 def base_values(design: Design, tolerances: list[Tolerance]) -> dict[str, float]:
     """Current value of every toleranced field of ``design`` [SI]."""
-    from necflow.calibrate.params import current_value
+    from necflow.config.fields import current_value
 
     return {t.path: float(current_value(design, t.path)) for t in tolerances}
 

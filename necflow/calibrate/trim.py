@@ -23,10 +23,10 @@ from necflow.catalog.bands import Band, resolve_bands
 from necflow.config.schema import Design, LineElement, PartElement
 from necflow.errors import ConfigError, ModelError
 from necflow.measure.types import gamma_from_z
-from necflow.optimize.space import Param, locate
-from necflow.optimize.spec import SearchParam
+from necflow.config.fields import Param, locate
+from necflow.config.sections import SearchParam
 from necflow.calibrate.advice import instruction, nearest_e12, step_order
-from necflow.calibrate.params import (build_params, current_value, from_unit, set_values,
+from necflow.config.fields import (build_params, current_value, from_unit, set_values,
                                       to_unit)
 from necflow.calibrate.response import Responder
 

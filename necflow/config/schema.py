@@ -23,15 +23,29 @@ from pydantic import (BaseModel, BeforeValidator, ConfigDict, Discriminator,
                       model_validator)
 
 from necflow import limits, units
-from necflow.calibrate.spec import ToleranceSpec
-from necflow.optimize.spec import CostSpec, SearchParam
+from necflow.config.sections import ToleranceSpec
+from necflow.config.sections import CostSpec, SearchParam
 
 # ----------------------------------------------------------------------------
 # Field helpers
 
 
+def _from_file(info: ValidationInfo | None) -> bool:
+    """True while a design file is validated (``context={'from_file': True}``):
+    a value there must carry its unit.  Code that builds or edits a design
+    gives SI floats, which are taken as they are."""
+    return bool(info is not None and info.context and info.context.get("from_file"))
+
+
+def _si_number(v: Any, info: ValidationInfo | None) -> bool:
+    return (isinstance(v, (int, float)) and not isinstance(v, bool)
+            and not _from_file(info))
+
+
 def _to_si(dimension: str):
-    def convert(v: Any) -> float:
+    def convert(v: Any, info: ValidationInfo) -> float:
+        if _si_number(v, info):
+            return units.finite(float(v), dimension)
         try:
             return units.parse(v, dimension)
         except units.UnitError as exc:
@@ -225,11 +239,12 @@ class InvertedV(Strict):
         return self
 
 
-def _point(v: Any) -> tuple[float, float, float]:
+def _point(v: Any, info: ValidationInfo) -> tuple[float, float, float]:
     if not isinstance(v, (list, tuple)) or len(v) != 3:
         raise ValueError("a point is a list of three lengths [x, y, z], e.g. ['0 m', '0 m', '10 m']")
     try:
-        point = tuple(units.parse(c, "length") for c in v)
+        point = tuple(units.finite(float(c), "length") if _si_number(c, info)
+                      else units.parse(c, "length") for c in v)
     except units.UnitError as exc:
         raise ValueError(str(exc)) from None
     if max(abs(c) for c in point) > MAX_COORDINATE_M:
@@ -434,14 +449,16 @@ class PartElement(Strict):
 
     @model_validator(mode="before")
     @classmethod
-    def _value_unit(cls, data: Any) -> Any:
+    def _value_unit(cls, data: Any, info: ValidationInfo) -> Any:
         if not isinstance(data, dict):
             return data
         kind = data.get("series") or data.get("shunt")
         if kind in PART_KINDS and "value" in data:
             try:
                 data = dict(data)
-                data["value"] = units.parse(data["value"], PART_KINDS[kind])
+                v = data["value"]
+                data["value"] = (units.finite(float(v), PART_KINDS[kind]) if _si_number(v, info)
+                                 else units.parse(v, PART_KINDS[kind]))
             except units.UnitError as exc:
                 raise ValueError(f"value: {exc}") from None
         return data

@@ -20,7 +20,7 @@ def synthetic_sweep(design, changes: dict, frequency_hz, *, at: str = "radio",
     ``noise`` is the standard deviation of complex Gaussian noise added to
     the reflection coefficient (each part), seeded.
     """
-    from necflow.calibrate.params import set_values
+    from necflow.config.fields import set_values
     from necflow.calibrate.response import Responder, gammas
 
     f = np.asarray(frequency_hz, dtype=float)

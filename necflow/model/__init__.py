@@ -6,7 +6,7 @@ judge it against the method-of-moments modelling rules.
 """
 
 from necflow.model.build import build_model, ground_model, wire_conductivity
-from necflow.model.checks import check_geometry
+from necflow.model.checks import check_geometry, check_variant
 from necflow.model.geometry import geometry
 from necflow.model.rules import Finding, check_rules
 from necflow.model.segments import target_segment_length
@@ -15,6 +15,6 @@ from necflow.model.types import FeedLocation, GroundModel, Wire, WireModel, Wire
 
 __all__ = [
     "FeedLocation", "Finding", "GroundModel", "ModelSummary", "Wire", "WireModel", "WireRow",
-    "WireSpan", "build_model", "check_geometry", "check_rules", "geometry", "ground_model",
+    "WireSpan", "build_model", "check_geometry", "check_variant", "check_rules", "geometry", "ground_model",
     "summarize", "target_segment_length", "wire_conductivity",
 ]

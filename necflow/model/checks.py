@@ -9,6 +9,7 @@ from __future__ import annotations
 import math
 
 from necflow import limits
+from necflow.catalog.bands import resolve_bands
 from necflow.config.schema import Design, InvertedV, WireList
 from necflow.errors import ConfigError
 from necflow.model.clearance import clearance_problems
@@ -88,3 +89,16 @@ def check_geometry(design: Design, f_max_hz: float, *, density: float = 1.0) -> 
                           f"{need:.3g} GiB; this machine has room for about {fits} segments "
                           "now; lower model.segments_per_wavelength or shorten the wires",
                           field="model.max_segments")
+
+
+def check_variant(design: Design) -> None:
+    """:func:`check_geometry` at the top of the design's own bands: what a
+    variant (a trial, a tolerance case, a corner of a search space) must pass
+    before it is built.
+
+    Raises
+    ------
+    ConfigError
+        With the field path.
+    """
+    check_geometry(design, max(b.high_hz for b in resolve_bands(design)))

@@ -148,7 +148,7 @@ def write_evaluation(evaluation, folder: Path, *, config_path: str, started) -> 
 def write_outputs(study, design, space, out: Path, *, storage_shown: str,
                   solver=None) -> StudyOutputs:
     """Write best.yaml, leaderboard.csv, best-bands.txt and best/ for a study."""
-    from necflow.optimize.space import apply
+    from necflow.config.fields import apply
     from necflow.pipeline import evaluate
     from necflow.report import run_folder
 

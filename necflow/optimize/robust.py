@@ -149,12 +149,12 @@ def robust_score(design, plan: RobustPlan, cache) -> RobustScore:
         When a case's design is invalid (e.g. an absolute tolerance takes a
         field to zero); the message names the case.
     """
-    from necflow.calibrate.params import set_values
+    from necflow.config.fields import set_values
     from necflow.calibrate.tolerance import base_values
     from necflow.catalog.bands import resolve_bands
     from necflow.model import build_model
     from necflow.optimize.evaluator import score_design
-    from necflow.optimize.space import check_variant
+    from necflow.model import check_variant
     from necflow.pipeline import band_points
 
     base = base_values(design, plan.tolerances)

@@ -139,7 +139,8 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
     from necflow.model import build_model
     from necflow.optimize.cost import score
     from necflow.optimize.inner import FeedSearch
-    from necflow.optimize.space import apply, check_variant
+    from necflow.model import check_variant
+    from necflow.config.fields import apply
     from necflow.pipeline import band_points, evaluate
 
     if list(design.cost.objectives) != ["cost"]:

@@ -163,7 +163,7 @@ def begin_session(study) -> int:
 
 def enqueue_start(study, design, space) -> bool:
     """Queue the starting design as the first trial of a new study."""
-    from necflow.optimize.space import locate
+    from necflow.config.fields import locate
 
     if study.get_trials(deepcopy=False):
         return False
@@ -199,7 +199,8 @@ def run_trial(trial, design, space, cache, robust=None) -> tuple[float, ...]:
     """
     from necflow.optimize.evaluator import score_design
     from necflow.optimize.robust import robust_score
-    from necflow.optimize.space import apply, check_variant
+    from necflow.model import check_variant
+    from necflow.config.fields import apply
 
     values = space.suggest(trial)
     try:

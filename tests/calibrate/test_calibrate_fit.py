@@ -12,12 +12,12 @@ import numpy as np
 import pytest
 
 from necflow.calibrate.fit import SWR_ONLY_NOTE, fit_design
-from necflow.calibrate.params import build_params, set_values
+from necflow.config.fields import build_params, set_values
 from necflow.calibrate.response import Responder
 from necflow.config.load import load_design
 from necflow.measure.synthetic import synthetic_sweep
 from necflow.measure.types import Measurement
-from necflow.optimize.spec import SearchParam
+from necflow.config.sections import SearchParam
 
 pytestmark = pytest.mark.engine
 NOISE = 0.003

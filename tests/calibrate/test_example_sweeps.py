@@ -21,7 +21,7 @@ import pytest
 
 from necflow import units
 from necflow.calibrate.fit import fit_design
-from necflow.calibrate.params import build_params
+from necflow.config.fields import build_params
 from necflow.calibrate.response import Responder
 from necflow.config.load import load_design
 from necflow.measure import read_measurement

@@ -8,7 +8,7 @@ import pytest
 from pydantic import BaseModel
 
 from necflow.config import reference, schema
-from necflow.optimize import spec
+from necflow.config import sections as spec
 
 ROOT = Path(__file__).resolve().parents[2]
 COMMAND = "python -m necflow.config.reference --write README.md (or: make docs)"

@@ -13,7 +13,7 @@ import yaml
 
 from necflow import units
 from necflow.config.load import load_design
-from necflow.optimize.space import Param
+from necflow.config.fields import Param
 from necflow.pipeline import evaluate
 from tests.conftest import dipole_like_solver
 from tests.optimize.helpers import STUDY, write_study

@@ -14,7 +14,8 @@ from necflow.feed.batch import FeedBatch
 from necflow.optimize.cost import score
 from necflow.optimize.evaluator import ResponseCache, score_design
 from necflow.optimize.inner import FeedSearch
-from necflow.optimize.space import apply, build_space
+from necflow.config.fields import apply
+from necflow.optimize.space import build_space
 from necflow.pipeline import band_points, evaluate
 from necflow.catalog.bands import resolve_bands
 from tests.conftest import dipole_like_solver
@@ -134,7 +135,7 @@ def test_sampled_inner_search_is_seeded_and_beats_its_start(setup):
 
 
 def _owner(design, path):
-    from necflow.optimize.space import locate
+    from necflow.config.fields import locate
     return locate(design, path)
 
 

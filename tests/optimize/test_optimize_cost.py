@@ -17,7 +17,7 @@ import pytest
 
 from necflow.optimize.cost import (SWR_CAP, combine_bands, horizontal_extent, point_cost,
                                    score, swr_penalty)
-from necflow.optimize.spec import CostSpec
+from necflow.config.sections import CostSpec
 
 # Float64 arithmetic of a handful of logs and exps: 1e-12 relative is far
 # above its round-off and far below any difference that matters.

@@ -6,7 +6,8 @@ from __future__ import annotations
 import pytest
 
 from necflow.errors import ConfigError
-from necflow.optimize.space import apply, load_study_design
+from necflow.config.fields import apply
+from necflow.optimize.space import load_study_design
 from tests.optimize.helpers import STUDY, write_study
 
 BASE = STUDY.split("search:")[0]
@@ -56,15 +57,19 @@ def test_bad_search_is_one_error_with_line(tmp_path, search, field, words):
     assert str(err).startswith(f"{tmp_path / 'design.yaml'}:{err.line}: {field}: ")
 
 
-def test_corner_design_that_breaks_the_schema_is_refused(tmp_path):
-    # a ground given by surface takes no conductivity: the variant is invalid
+def test_a_surface_grounds_constant_can_be_searched(tmp_path):
+    # A ground named by its surface is made explicit before one of its
+    # constants is set (as fit does): the other constant keeps the surface's
+    # value, 15 for medium-dry ground (ITU-R P.527, references.md).
+    from necflow.config.fields import apply
+
     text = BASE.replace("ground: {model: free-space}",
                         "ground: {model: sommerfeld, surface: medium-dry}")
-    with pytest.raises(ConfigError) as info:
-        load_study_design(write_study(tmp_path, text + "search:\n"
-                                      "  ground.conductivity: [1 mS/m, 10 mS/m]\n"))
-    assert "low end is invalid" in info.value.message
-    assert info.value.field == "search.ground.conductivity"
+    design, space = load_study_design(write_study(tmp_path, text + "search:\n"
+                                                  "  ground.conductivity: [1 mS/m, 10 mS/m]\n"))
+    low = apply(design, space.corners()[0])
+    assert low.ground.surface is None and low.ground.permittivity == 15
+    assert low.ground.conductivity == pytest.approx(1e-3)
 
 
 def test_shorthand_needs_two_values(tmp_path):

@@ -20,7 +20,8 @@ from necflow.errors import ConfigError
 from necflow.optimize.cost import score
 from necflow.optimize.evaluator import ResponseCache
 from necflow.optimize.robust import check_method, robust_plan, robust_score
-from necflow.optimize.space import apply, load_study_design
+from necflow.config.fields import apply
+from necflow.optimize.space import load_study_design
 from necflow.optimize.study import StudyOptions, run_study
 from necflow.pipeline import evaluate
 from tests.conftest import dipole_like_solver

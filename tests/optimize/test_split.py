@@ -14,7 +14,8 @@ import pytest
 
 from necflow.config.load import load_design_text
 from necflow.optimize.evaluator import ResponseCache, score_design
-from necflow.optimize.space import apply, build_space
+from necflow.config.fields import apply
+from necflow.optimize.space import build_space
 from necflow.optimize.split import split_search
 from tests.conftest import dipole_like_solver
 

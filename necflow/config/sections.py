@@ -1,10 +1,9 @@
-"""Design-file keys of a study: the ``search`` space and the ``cost``.
+"""Design-file keys of the jobs: the study's ``search`` space and ``cost``,
+the ranges of ``uncertain`` and ``adjustable``, and ``tolerances``.
 
 These models hold the user's text as written (bounds with units such as
 ``"22 m"``); the unit a bound needs depends on the field it addresses, so
-:mod:`necflow.optimize.space` converts them to SI against the design.
-This module imports nothing from the rest of necflow, so the schema can
-import it without a cycle.
+:mod:`necflow.config.fields` converts them to SI against the design.
 """
 
 from __future__ import annotations
@@ -101,4 +100,31 @@ class CostSpec(_Strict):
     def _unique(cls, v: list[str]) -> list[str]:
         if len(set(v)) != len(v):
             raise ValueError("each objective once")
+        return v
+
+
+class ToleranceSpec(_Strict):
+    """How 'necflow tolerance' varies the design."""
+
+    fields: dict[str, str | float] = Field(
+        default_factory=dict, description="Field path -> tolerance, drawn uniformly within "
+        "plus or minus: a percentage ('5 %') or a value in the field's unit ('3 cm', '0.02')",
+        json_schema_extra={"unit": "% or unit of the field"})
+    ground: list[str] | None = Field(
+        None, min_length=2, max_length=2, description="Dry-season and wet-season ground "
+        "surfaces from the catalog (e.g. [very-dry, wet]); each case takes a ground between "
+        "them")
+    samples: int = Field(200, ge=10, le=100000, description="Monte Carlo cases")
+    seed: int = Field(1, ge=0, description="Seed of the random draws (same seed, same result)")
+    levels: int = Field(3, ge=2, le=9, description="Values per geometry field (and of the "
+                        "ground) in the small set of geometry states that are solved; each "
+                        "case draws one of them")
+    max_states: int = Field(27, ge=1, le=1000, description="Most geometry states solved; "
+                            "beyond it a seeded subset of the combinations is used")
+
+    @field_validator("ground")
+    @classmethod
+    def _two(cls, v):
+        if v is not None and v[0] == v[1]:
+            raise ValueError("give two different surfaces: dry season, wet season")
         return v
