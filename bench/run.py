@@ -92,7 +92,7 @@ def sweep_overhead(design_path: Path) -> dict:
 
 def reference(design, space, workers: int) -> dict:
     from necflow.engine.parallel import ParallelSolver
-    from necflow.optimize.evaluator import ResponseCache
+    from necflow.engine.response import ResponseCache
     from necflow.optimize.split import split_search
 
     t0 = time.perf_counter()
@@ -108,7 +108,7 @@ def reference(design, space, workers: int) -> dict:
 def fast(design, space, workers: int, store_dir: Path) -> dict:
     from necflow.engine.cache import SolveStore
     from necflow.engine.parallel import ParallelSolver
-    from necflow.optimize.evaluator import ResponseCache
+    from necflow.engine.response import ResponseCache
     from necflow.optimize.split import split_search
 
     t0 = time.perf_counter()

@@ -15,7 +15,7 @@ import numpy as np
 from necflow.catalog.bands import resolve_bands
 from necflow.config.schema import Design
 from necflow.measure.types import Measurement, gamma_from_z
-from necflow.optimize.evaluator import ResponseCache
+from necflow.engine.response import ResponseCache
 
 
 class Responder:

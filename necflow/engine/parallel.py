@@ -152,9 +152,11 @@ class ParallelSolver:
             self.solve_seconds += dt
         return out
 
-    def __call__(self, model, frequency_hz) -> np.ndarray:
-        """The solver interface: one model, its blocks spread over the workers."""
+    def solve(self, model, frequency_hz) -> np.ndarray:
+        """One model, its frequency blocks spread over the workers."""
         return self.solve_many([model], [frequency_hz])[0]
+
+    __call__ = solve
 
     def close(self) -> None:
         if self._pool is not None:

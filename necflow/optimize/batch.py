@@ -175,7 +175,8 @@ def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
              storage: str | None = None, solver=None) -> dict:
     """Evaluate or optimise one cell; writes ``cell.json`` last; returns its summary."""
     from necflow.config.load import load_design_text
-    from necflow.optimize.evaluator import ResponseCache, score_design
+    from necflow.engine.response import ResponseCache
+    from necflow.optimize.evaluator import score_design
 
     folder.mkdir(parents=True, exist_ok=True)
     fileio.write_text(folder / "design.yaml", text)

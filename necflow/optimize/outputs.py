@@ -116,7 +116,7 @@ def objective_as_written(design, variant, evaluation, solver=None) -> tuple:
     """The study's objectives of ``variant`` (robust ones over the study's
     cases when ``cost.robust`` is set)."""
     from necflow.optimize.cost import score
-    from necflow.optimize.evaluator import ResponseCache
+    from necflow.engine.response import ResponseCache
     from necflow.optimize.robust import robust_plan, robust_score
 
     plan = robust_plan(design)

@@ -23,7 +23,7 @@ def run_split(design, space, options, study, err: TextIO, solver=None) -> str:
     from necflow.engine.cache import SolveStore
     from necflow.engine.parallel import ParallelSolver
     from necflow.optimize.cost import score
-    from necflow.optimize.evaluator import ResponseCache
+    from necflow.engine.response import ResponseCache
     from necflow.optimize.split import split_search
 
     def say(text: str) -> None:

@@ -270,7 +270,7 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
     """Run trials until the budget, the deadline or a signal; returns why it stopped."""
     from optuna.trial import TrialState
 
-    from necflow.optimize.evaluator import ResponseCache
+    from necflow.engine.response import ResponseCache
     from necflow.optimize.robust import robust_plan
 
     study = study or open_study(design, space, options)

@@ -12,7 +12,8 @@ from necflow.config.load import load_design_text
 from necflow.feed import build_chain
 from necflow.feed.batch import FeedBatch
 from necflow.optimize.cost import score
-from necflow.optimize.evaluator import ResponseCache, score_design
+from necflow.engine.response import ResponseCache
+from necflow.optimize.evaluator import score_design
 from necflow.optimize.inner import FeedSearch
 from necflow.config.fields import apply
 from necflow.optimize.space import build_space

@@ -18,7 +18,7 @@ from necflow.calibrate.tolerance import perturbations, robust_cost
 from necflow.config.load import load_design
 from necflow.errors import ConfigError
 from necflow.optimize.cost import score
-from necflow.optimize.evaluator import ResponseCache
+from necflow.engine.response import ResponseCache
 from necflow.optimize.robust import check_method, robust_plan, robust_score
 from necflow.config.fields import apply
 from necflow.optimize.space import load_study_design

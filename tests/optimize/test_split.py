@@ -13,7 +13,8 @@ import numpy as np
 import pytest
 
 from necflow.config.load import load_design_text
-from necflow.optimize.evaluator import ResponseCache, score_design
+from necflow.engine.response import ResponseCache
+from necflow.optimize.evaluator import score_design
 from necflow.config.fields import apply
 from necflow.optimize.space import build_space
 from necflow.optimize.split import split_search
