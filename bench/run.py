@@ -75,8 +75,8 @@ class TimedSolver:
 def sweep_overhead(design_path: Path) -> dict:
     """Evaluate the demo design twice (the first run pays for imports and
     first-use set-up); the second's engine share is the figure."""
-    from necflow.config.load import load_design
-    from necflow.pipeline import evaluate
+    from necflow.chain import load_design
+    from necflow.chain import evaluate
 
     runs = []
     for _ in range(2):
@@ -130,7 +130,7 @@ def plain_loop(design, space, target: float, budget_s: float, seed: int = 1) -> 
     from necflow.model import check_variant
     from necflow.config.fields import apply
     from necflow.optimize.study import enqueue_start
-    from necflow.pipeline import evaluate
+    from necflow.chain import evaluate
 
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     solver = TimedSolver()
@@ -165,7 +165,7 @@ def solve_rate(design, workers: int) -> dict:
     from necflow.engine.parallel import ParallelSolver
     from necflow.model import build_model
     from necflow.config.fields import apply
-    from necflow.pipeline import band_points
+    from necflow.chain import band_points
 
     f, _ = band_points(resolve_bands(design))
     models = [build_model(apply(design, {"antenna.span": 27.0 + 0.25 * k}), f.max())

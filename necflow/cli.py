@@ -160,9 +160,9 @@ def main(argv: list[str] | None = None) -> int:
 
 def cmd_check(args) -> int:
     from necflow.catalog.bands import resolve_bands
-    from necflow.config.load import load_design
+    from necflow.chain import load_design
     from necflow.model import build_model, check_rules, summarize
-    from necflow.pipeline import band_points
+    from necflow.chain import band_points
 
     design = load_design(args.design)
     f, _ = band_points(resolve_bands(design))
@@ -206,8 +206,8 @@ def _print_convergence(design) -> None:
 def cmd_evaluate(args) -> int:
     from rich.console import Console
 
-    from necflow.config.load import load_design
-    from necflow.pipeline import evaluate
+    from necflow.chain import load_design
+    from necflow.chain import evaluate
     from necflow.report import run_folder
     from necflow.report.tables import band_table
 

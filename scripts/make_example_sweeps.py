@@ -22,7 +22,7 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from necflow import fileio  # noqa: E402
-from necflow.config.load import load_design  # noqa: E402
+from necflow.chain import load_design
 from necflow.measure.synthetic import csv_swr_text, synthetic_sweep, touchstone_text  # noqa: E402
 
 FOLDER = ROOT / "configs" / "measured"

@@ -9,8 +9,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from necflow.config.load import load_design, load_design_text
-from necflow.pipeline import band_points, evaluate, feedpoint_response
+from necflow.chain import load_design, load_design_text
+from necflow.chain import Chain, band_points, evaluate
+from necflow.config.schema import Design
 from necflow.report import results
 from tests.conftest import CONFIGS, dipole_like_solver
 
@@ -47,10 +48,15 @@ def test_overlapping_bands_solve_each_frequency_once():
         calls.append(np.array(f))
         return dipole_like_solver(model, f)
 
-    f = np.array([7.0e6, 7.1e6, 7.1e6, 7.2e6])
-    z = feedpoint_response(None, f, counting)
+    design = Design(name="overlap", ground={"model": "free-space"}, feed=[],
+                    antenna={"shape": "doublet", "span": "20 m", "height": "10 m"},
+                    bands=[{"name": "a", "low": "7.0 MHz", "high": "7.2 MHz", "points": 3},
+                           {"name": "b", "low": "7.1 MHz", "high": "7.2 MHz", "points": 2}])
+    chain = Chain(design, counting)
+    z = chain.antenna
+    assert chain.frequency_hz.size == 5
     assert len(calls) == 1 and len(calls[0]) == 3
-    assert z[1] == z[2]
+    assert z[1] == z[3] and z[2] == z[4]
 
 
 def test_results_contract_keys(evaluation):

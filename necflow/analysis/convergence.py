@@ -214,7 +214,7 @@ def check_convergence(design: Design, *, solver: Callable | None = None,
     from necflow.catalog.bands import resolve_bands
     from necflow.feed.chain import build_chain
     from necflow.model import build_model
-    from necflow.pipeline import band_points
+    from necflow.chain import band_points
 
     if solver is None:
         from necflow.engine import solve_feedpoint as solver

@@ -99,7 +99,7 @@ def run_fit(args) -> int:
     from necflow.config.fields import build_params
     from necflow.calibrate.response import Responder
     from necflow.catalog.bands import resolve_bands
-    from necflow.config.load import load_design
+    from necflow.chain import load_design
     from necflow.config.resolve import resolved_yaml
     from necflow.measure import check_overlap, read_measurement
     from necflow.measure.overlay import compare, overlay_figure
@@ -169,7 +169,7 @@ def _band_line(b) -> str:
 
 def run_trim(args) -> int:
     from necflow.calibrate.trim import trim_design
-    from necflow.config.load import load_design
+    from necflow.chain import load_design
     from necflow.config.resolve import resolved_yaml
 
     from necflow.calibrate.trim import resolve_targets
@@ -226,7 +226,7 @@ def run_trim(args) -> int:
 
 def run_tolerance(args) -> int:
     from necflow.calibrate.tolerance import monte_carlo, tolerance_figure
-    from necflow.config.load import load_design
+    from necflow.chain import load_design
 
     design = load_design(args.design)
     if args.samples is not None and not 1 <= args.samples <= MAX_SAMPLES:

@@ -2,8 +2,8 @@
 
 :class:`Responder` turns a design variant into the reflection coefficient
 where a sweep was taken (at the feed point, or at the radio through the feed
-chain).  The antenna's response comes through the optimiser's response cache
-keyed by the wire model, so variants that change only the feed chain cost no
+chain).  The antenna's response comes through the engine's response cache
+keyed by the wire model (each variant a :class:`necflow.chain.Chain`), so variants that change only the feed chain cost no
 solve.  Every variant is segmented for the same top frequency, so a fitted
 geometry is compared with the same segmentation rules throughout.
 """
@@ -12,10 +12,10 @@ from __future__ import annotations
 
 import numpy as np
 
-from necflow.catalog.bands import resolve_bands
+from necflow.chain import Chain
 from necflow.config.schema import Design
-from necflow.measure.types import Measurement, gamma_from_z
 from necflow.engine.response import ResponseCache
+from necflow.measure.types import Measurement, gamma_from_z
 
 
 class Responder:
@@ -34,7 +34,7 @@ class Responder:
     def __init__(self, design: Design, measurements: list[Measurement] = (),
                  cache: ResponseCache | None = None):
         self.cache = cache if cache is not None else ResponseCache()
-        tops = [b.high_hz for b in resolve_bands(design)]
+        tops = [b.high_hz for b in Chain(design).bands]
         tops += [float(m.frequency_hz.max()) for m in measurements]
         self.f_max = max(tops)
 
@@ -43,16 +43,17 @@ class Responder:
         """Distinct antenna solves (frequency sets) so far."""
         return self.cache.misses
 
+    def chain(self, design: Design) -> Chain:
+        """The design's chain, segmented for the measured range, on this cache."""
+        return Chain(design, self.cache, top_frequency_hz=self.f_max)
+
     def z_feedpoint(self, design: Design, f) -> np.ndarray:
         """Feedpoint impedance [ohm] of ``design`` at ``f`` [Hz] (cached)."""
-        from necflow.model import build_model
-        return self.cache(build_model(design, self.f_max), np.asarray(f, dtype=float))
+        return self.chain(design).antenna_at(f)
 
     def z_radio(self, design: Design, f, z_feed) -> np.ndarray:
         """Impedance at the radio end of the feed chain [ohm]."""
-        from necflow.feed import build_chain
-        chain = build_chain(design.feed, r_radio=design.radio.impedance)
-        return chain.input_impedance(np.asarray(f, dtype=float), z_feed)
+        return self.chain(design).feed.input_impedance(np.asarray(f, dtype=float), z_feed)
 
     def impedance(self, design: Design, f, at: str) -> np.ndarray:
         """Impedance [ohm] at ``at`` ("radio" or "feedpoint")."""

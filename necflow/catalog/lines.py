@@ -306,3 +306,32 @@ LINE_TYPES: dict[str, LineType] = {lt.name: lt for lt in (
         "rg-59", "75-ohm coax, solid polyethylene, 6 mm", False, 75.0, 0.66,
         [(10.0e6, 1.1), (30.0e6, 1.8)], source=_MEM_COAX),
 )}
+
+
+def resolve_line_type(line: str, impedance: float | None = None,
+                      velocity_factor: float | None = None, loss=None,
+                      balanced: bool | None = None) -> LineType:
+    """The line type of a feed element: a catalog entry, with a design's
+    overrides (impedance, velocity factor, loss figures, balance), or a
+    custom line.
+
+    Raises
+    ------
+    KeyError
+        For a name that is neither in the catalog nor 'custom'.
+    """
+    if line == "custom":
+        return custom_line_type(impedance, velocity_factor, loss, name="custom",
+                                balanced=bool(balanced))
+    base = LINE_TYPES[line]
+    bal = base.balanced if balanced is None else bool(balanced)
+    if impedance is None and velocity_factor is None and loss is None and bal == base.balanced:
+        return base
+    z0 = impedance or base.z0
+    vf = velocity_factor or base.velocity_factor
+    if loss is not None:
+        return custom_line_type(z0, vf, loss, name=base.name, balanced=bal,
+                                description=base.description + " (loss from the design file)",
+                                source="design file (loss); " + base.source)
+    return make_line_type(base.name, base.description, bal, z0, vf, base.data,
+                          base.source, base.notes)

@@ -21,8 +21,11 @@ from pydantic import ValidationError
 from necflow.config.messages import (Lines, describe, did_you_mean, first_error,
                                      parse_path, path_text, translate)
 from necflow.config.messages import is_model, union_tags  # noqa: F401  (re-exported)
-from necflow.config.schema import Design
 from necflow import limits
+from necflow.catalog.bands import TABLES, resolve_bands, unknown_band_message
+from necflow.catalog.grounds import SURFACES
+from necflow.catalog.lines import LINE_TYPES, resolve_line_type
+from necflow.config.schema import Design
 from necflow.errors import ConfigError, ModelError
 
 
@@ -356,18 +359,19 @@ def read_design_text(path: str | os.PathLike, what: str = "a design file (YAML)"
                           "as UTF-8", file=name, line=line) from None
 
 
-def load_design(path: str | os.PathLike) -> Design:
-    """Read, validate and check a design file.
+def validate_design_file(path: str | os.PathLike) -> tuple[Design, Lines]:
+    """Read a design file and validate it against the schema and the catalogs.
 
-    Parameters
-    ----------
-    path : str or path-like
-        The design file (YAML, UTF-8).
+    The physics checks that need a wire model (wires that cross, legs below
+    ground, a model too large) come on top in
+    :func:`necflow.chain.load_design`, which is what jobs call.
 
     Returns
     -------
-    Design
+    design : Design
         Validated; every value in SI units.
+    lines : dict
+        The line of every key and list item (for later messages).
 
     Raises
     ------
@@ -375,14 +379,11 @@ def load_design(path: str | os.PathLike) -> Design:
         One error, the most useful one, as ``FILE:LINE: field: message``;
         the message adds ``(and N more problems)`` when there are several.
     """
-    return load_design_text(read_design_text(path), file=os.fspath(path))
+    return validate_design_text(read_design_text(path), file=os.fspath(path))
 
 
-def load_design_text(text: str, file: str = "<string>") -> Design:
-    """Validate and check a design given as YAML text.
-
-    ``file`` is the name shown in error messages.  See :func:`load_design`.
-    """
+def validate_design_text(text: str, file: str = "<string>") -> tuple[Design, Lines]:
+    """:func:`validate_design_file` of YAML text (``file`` names it in messages)."""
     data, lines = parse_yaml(text, file)
     if data is None:
         raise ConfigError("the file is empty; expected a design: a mapping with name, "
@@ -398,14 +399,14 @@ def load_design_text(text: str, file: str = "<string>") -> Design:
     problems = _semantic_problems(design)
     if problems:
         raise first_error(problems, file, lines)
-    try:
-        _check_geometry(design)
-    except (ConfigError, ModelError) as exc:
-        field = getattr(exc, "field", None)
-        message = getattr(exc, "message", None) or str(exc)
-        raise first_error([(message, parse_path(field) if field else None)], file,
-                          lines) from None
-    return design
+    return design, lines
+
+
+def at_field(exc: ConfigError | ModelError, file: str, lines: Lines) -> ConfigError:
+    """An error found after validation, placed at its field's line."""
+    field = getattr(exc, "field", None)
+    message = getattr(exc, "message", None) or str(exc)
+    return first_error([(message, parse_path(field) if field else None)], file, lines)
 
 
 # ----------------------------------------------------------------------------
@@ -413,11 +414,8 @@ def load_design_text(text: str, file: str = "<string>") -> Design:
 
 
 def _semantic_problems(design: Design) -> list[tuple[str, tuple | None]]:
-    """Names that must exist in the catalogs: bands, line types, surfaces."""
-    from necflow.catalog.bands import TABLES, unknown_band_message
-    from necflow.catalog.grounds import SURFACES
-    from necflow.catalog.lines import LINE_TYPES
-
+    """Names that must exist in the catalogs (bands, line types, surfaces),
+    and lines that lose more than anything could pass."""
     out: list[tuple[str, tuple | None]] = []
     for i, b in enumerate(design.bands):
         if b.low is None and b.name not in TABLES[design.region].edges:
@@ -433,6 +431,8 @@ def _semantic_problems(design: Design) -> list[tuple[str, tuple | None]]:
         out.append((f"'{remote}' is not an unbalanced catalog line; "
                     f"{did_you_mean(remote, coax)}expected one of {', '.join(coax)}",
                     ("report", "tuner", "remote_line")))
+    if not out:
+        out += _line_loss_problems(design)
     s = design.ground.surface
     if s is not None and s not in SURFACES:
         out.append((f"unknown ground surface '{s}'; {did_you_mean(s, SURFACES)}expected one of "
@@ -441,35 +441,31 @@ def _semantic_problems(design: Design) -> list[tuple[str, tuple | None]]:
     return out
 
 
-def _check_geometry(design: Design) -> None:
-    from necflow.catalog.bands import resolve_bands
-    from necflow.model import check_geometry
-
-    bands = resolve_bands(design)
-    f_max = max(b.high_hz for b in bands)
-    _check_line_loss(design, f_max)
-    check_geometry(design, f_max)
-
-
 #: Most matched loss one line may have at the top frequency [dB]: beyond it
 #: nothing measurable reaches the antenna (and the wave solution overflows
 #: near 6000 dB).
 MAX_LINE_LOSS_DB = 300.0
 
 
-def _check_line_loss(design: Design, f_max: float) -> None:
-    from necflow.feed.chain import build_chain
-
-    for i, el in enumerate(build_chain(design.feed, r_radio=design.radio.impedance).elements):
-        lt = getattr(el, "line_type", None)
-        if lt is None:
+def _line_loss_problems(design: Design) -> list[tuple[str, tuple | None]]:
+    bands = resolve_bands(design)
+    f_max = max(b.high_hz for b in bands)
+    out: list[tuple[str, tuple | None]] = []
+    for i, el in enumerate(design.feed):
+        if getattr(el, "line", None) is None:
             continue
+        try:
+            lt = resolve_line_type(el.line, el.impedance, el.velocity_factor, el.loss,
+                                   el.balanced)
+        except KeyError:
+            continue                   # named by the catalog check
         db = float(lt.attenuation_db_per_m(f_max)) * el.length
         if not db <= MAX_LINE_LOSS_DB:
-            raise ConfigError(f"this line loses {db:.3g} dB matched at {f_max / 1e6:g} MHz, "
-                              f"more than {MAX_LINE_LOSS_DB:g} dB: nothing would reach the "
-                              "antenna; check its length and loss figures",
-                              field=f"feed[{i}].length")
+            out.append((f"this line loses {db:.3g} dB matched at {f_max / 1e6:g} MHz, more "
+                        f"than {MAX_LINE_LOSS_DB:g} dB: nothing would reach the antenna; "
+                        "check its length and loss figures", ("feed", i, "length")))
+    return out
 
 
-__all__ = ["MarkedLoader", "parse_yaml", "load_design", "load_design_text"]
+__all__ = ["MarkedLoader", "parse_yaml", "read_design_text", "validate_design_file",
+           "validate_design_text", "at_field", "locate"]

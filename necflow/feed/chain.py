@@ -15,7 +15,7 @@ from typing import Any
 
 import numpy as np
 
-from necflow.catalog.lines import LINE_TYPES, LineType, custom_line_type, make_line_type
+from necflow.catalog.lines import LINE_TYPES, LineType, resolve_line_type
 from necflow.errors import ConfigError, NecflowWarning
 from necflow.feed import line as tl
 from necflow.feed import twoport
@@ -148,25 +148,12 @@ class FeedChain:
 
 
 def _line_type(el, i: int) -> LineType:
-    if el.line == "custom":
-        return custom_line_type(el.impedance, el.velocity_factor, el.loss, name="custom",
-                                balanced=bool(el.balanced))
-    if el.line not in LINE_TYPES:
+    try:
+        return resolve_line_type(el.line, el.impedance, el.velocity_factor, el.loss,
+                                 getattr(el, "balanced", None))
+    except KeyError:
         raise ConfigError(f"unknown line type '{el.line}'; catalog types are: "
-                          + ", ".join(LINE_TYPES) + ", custom", field=f"feed[{i}].line")
-    base = LINE_TYPES[el.line]
-    balanced = base.balanced if el.balanced is None else bool(el.balanced)
-    if el.impedance is None and el.velocity_factor is None and el.loss is None \
-            and balanced == base.balanced:
-        return base
-    z0 = el.impedance or base.z0
-    vf = el.velocity_factor or base.velocity_factor
-    if el.loss is not None:
-        return custom_line_type(z0, vf, el.loss, name=base.name, balanced=balanced,
-                                description=base.description + " (loss from the design file)",
-                                source="design file (loss); " + base.source)
-    return make_line_type(base.name, base.description, balanced, z0, vf, base.data,
-                          base.source, base.notes)
+                          + ", ".join(LINE_TYPES) + ", custom", field=f"feed[{i}].line") from None
 
 
 def build_chain(feed: Sequence[Any], r_radio: float = 50.0) -> FeedChain:

@@ -106,7 +106,8 @@ def load_batch(path) -> tuple[BatchSpec, list[tuple[str, dict, str]]]:
     ConfigError
         For the batch file itself, or naming the first cell whose design is invalid.
     """
-    from necflow.config.load import load_design_text, parse_yaml, read_design_text
+    from necflow.config.load import parse_yaml, read_design_text
+    from necflow.chain import load_design_text
 
     name = str(path)
     text = read_design_text(path, "a batch file (YAML)")
@@ -174,7 +175,7 @@ def _describe(over: dict) -> str:
 def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
              storage: str | None = None, solver=None) -> dict:
     """Evaluate or optimise one cell; writes ``cell.json`` last; returns its summary."""
-    from necflow.config.load import load_design_text
+    from necflow.chain import load_design_text
     from necflow.engine.response import ResponseCache
     from necflow.optimize.evaluator import score_design
 

@@ -92,7 +92,7 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
     from necflow.optimize.space import load_study_design
     from necflow.optimize.storage import describe, redact_url
     from necflow.optimize.study import counted_trials, open_study, run_study
-    from necflow.pipeline import evaluate
+    from necflow.chain import evaluate
     from necflow.report import run_folder
 
     optuna.logging.set_verbosity(optuna.logging.WARNING)

@@ -23,6 +23,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from necflow.model import geometry
+
 SWR_CAP = 1000.0
 
 
@@ -111,43 +113,107 @@ class Score:
 
 def horizontal_extent(design) -> float:
     """Largest horizontal distance between any two wire ends [m] (the room the
-    antenna needs between its supports)."""
-    a = design.antenna
-    if hasattr(a, "span"):
-        return float(a.span)
-    if a.shape == "inverted-v":
-        drop = a.apex_height - a.end_height if a.end_height is not None else a.leg * np.sin(a.droop)
-        return float(2.0 * np.sqrt(max(a.leg ** 2 - drop ** 2, 0.0)))
-    pts = np.array([p for w in a.wires for p in (w.start, w.end)])[:, :2]
+    antenna needs between its supports), from the wires the model is built
+    of (:func:`necflow.model.geometry`)."""
+    spans, _ = geometry(design)
+    pts = np.array([p for w in spans for p in (w.start, w.end)], dtype=float)[:, :2]
     return float(np.max(np.linalg.norm(pts[:, None, :] - pts[None, :, :], axis=-1)))
 
 
-def score(evaluation, spec) -> Score:
-    """Score an :class:`~necflow.pipeline.Evaluation` with a :class:`CostSpec`."""
-    d = evaluation.design
-    limit = d.goal.swr_limit
-    swr = np.asarray(evaluation.system.swr, dtype=float)
-    total = np.asarray(evaluation.system.loss_db["total"], dtype=float)
+@dataclass(frozen=True)
+class ArrayScores:
+    """The cost terms of many variants at once, each ``(nvar,)`` or
+    ``(nvar, nbands)``.
+
+    Attributes
+    ----------
+    cost : ndarray
+        Combined cost per variant.
+    band_cost, swr_term, band_loss_db, swr_max : ndarray
+        ``(nvar, nbands)`` per-band terms (mean over the band's points).
+    worst_swr : ndarray
+        Highest SWR over the points of bands with non-zero weight.
+    loss_db : ndarray
+        Weighted mean over bands of the mean total loss [dB].
+    """
+
+    cost: np.ndarray
+    band_cost: np.ndarray
+    swr_term: np.ndarray
+    band_loss_db: np.ndarray
+    swr_max: np.ndarray
+    worst_swr: np.ndarray
+    loss_db: np.ndarray
+
+
+def score_arrays(swr, loss_db, band_index, weights, limit: float, spec) -> ArrayScores:
+    """The cost of each variant (see the README section "Cost").
+
+    ``point_i = a * swr_term_i + b * T_i`` with ``swr_term`` the smooth
+    penalty :func:`swr_penalty`; a band's cost is the mean over its points;
+    the bands combine by weighted mean or as the worst band
+    (:func:`combine_bands`).  One formula for a single design
+    (:func:`score`), the inner feed search and robust scoring.
+
+    Parameters
+    ----------
+    swr, loss_db : array_like
+        ``(nvar, nfreq)`` SWR at the radio [-] and total loss [dB].
+    band_index : array_like of int
+        ``(nfreq,)`` band of each point.
+    weights : array_like
+        ``(nbands,)`` band weights.
+    limit : float
+        SWR limit [-].
+    spec : CostSpec
+    """
+    swr = np.atleast_2d(np.asarray(swr, dtype=float))
+    total = np.atleast_2d(np.asarray(loss_db, dtype=float))
+    band_index = np.asarray(band_index)
+    w = np.asarray(weights, dtype=float)
+    if not np.any(w > 0):
+        raise ValueError("every band has weight 0; give at least one band a positive weight")
     pen = swr_penalty(swr, limit, spec.swr_softness)
-    per_point = spec.swr_weight * pen + spec.loss_weight * total
-    bands: dict[str, dict[str, float]] = {}
-    costs, weights, worst, losses = [], [], [], []
-    for i, band in enumerate(evaluation.bands):
-        sel = evaluation.band_index == i
-        terms = {"cost": float(per_point[sel].mean()), "swr_term": float(pen[sel].mean()),
-                 "loss_db": float(total[sel].mean()), "swr_max": float(swr[sel].max()),
-                 "weight": float(band.weight)}
-        bands[band.name] = terms
-        costs.append(terms["cost"])
-        weights.append(band.weight)
-        losses.append(terms["loss_db"])
-        if band.weight > 0:
-            worst.append(terms["swr_max"])
-    cost = combine_bands(costs, weights, spec.combine)
-    loss = combine_bands(losses, weights, "mean")
-    worst_swr = float(max(worst))
-    named = {"cost": cost, "worst_swr": worst_swr, "loss_db": loss}
+    point = spec.swr_weight * pen + spec.loss_weight * total
+    sel = [band_index == k for k in range(w.size)]
+    band_cost = np.stack([point[:, m].mean(axis=1) for m in sel], axis=1)
+    swr_term = np.stack([pen[:, m].mean(axis=1) for m in sel], axis=1)
+    band_loss = np.stack([total[:, m].mean(axis=1) for m in sel], axis=1)
+    swr_max = np.stack([swr[:, m].max(axis=1) for m in sel], axis=1)
+    live = w > 0
+    if spec.combine == "worst":
+        cost = band_cost[:, live].max(axis=1)
+    else:
+        cost = band_cost @ w / w.sum()
+    return ArrayScores(cost=cost, band_cost=band_cost, swr_term=swr_term,
+                       band_loss_db=band_loss, swr_max=swr_max,
+                       worst_swr=swr_max[:, live].max(axis=1), loss_db=band_loss @ w / w.sum())
+
+
+def objective_values(arrays: ArrayScores, spec, span: float | np.ndarray | None = None
+                     ) -> np.ndarray:
+    """``(nvar, nobjectives)``: the objectives of ``spec.objectives`` per variant."""
+    named = {"cost": arrays.cost, "worst_swr": arrays.worst_swr, "loss_db": arrays.loss_db}
     if "span" in spec.objectives:
-        named["span"] = horizontal_extent(d)
-    values = tuple(float(named[k]) for k in spec.objectives)
-    return Score(cost=cost, values=values, bands=bands, worst_swr=worst_swr, loss_db=loss)
+        named["span"] = np.broadcast_to(np.asarray(span, dtype=float), arrays.cost.shape)
+    return np.stack([np.asarray(named[k], dtype=float) for k in spec.objectives], axis=1)
+
+
+def score(evaluation, spec) -> Score:
+    """Score an :class:`~necflow.chain.Evaluation` with a :class:`CostSpec`."""
+    d = evaluation.design
+    a = score_arrays(evaluation.system.swr, evaluation.system.loss_db["total"],
+                     evaluation.band_index, [b.weight for b in evaluation.bands],
+                     d.goal.swr_limit, spec)
+    return score_from_arrays(a, 0, evaluation.bands, spec,
+                             horizontal_extent(d) if "span" in spec.objectives else None)
+
+
+def score_from_arrays(a: ArrayScores, k: int, bands, spec, span=None) -> Score:
+    """Variant ``k`` of :func:`score_arrays` as a :class:`Score`."""
+    terms = {b.name: {"cost": float(a.band_cost[k, i]), "swr_term": float(a.swr_term[k, i]),
+                      "loss_db": float(a.band_loss_db[k, i]), "swr_max": float(a.swr_max[k, i]),
+                      "weight": float(b.weight)} for i, b in enumerate(bands)}
+    values = tuple(float(v) for v in objective_values(a, spec, span)[k])
+    return Score(cost=float(a.cost[k]), values=values, bands=terms,
+                 worst_swr=float(a.worst_swr[k]), loss_db=float(a.loss_db[k]))

@@ -10,8 +10,8 @@ __all__ = ["ResponseCache", "evaluate_cached", "score_design"]
 
 
 def evaluate_cached(design, cache: ResponseCache):
-    """:func:`necflow.pipeline.evaluate` with the antenna response from ``cache``."""
-    from necflow.pipeline import evaluate
+    """:func:`necflow.chain.evaluate` with the antenna response from ``cache``."""
+    from necflow.chain import evaluate
 
     return evaluate(design, solver=cache)
 

@@ -18,7 +18,7 @@ from typing import Any
 
 import numpy as np
 
-from necflow.optimize.cost import swr_penalty
+from necflow.optimize.cost import score_arrays
 
 #: Variants per numpy call (bounds the working memory to some tens of MB).
 CHUNK = 4096
@@ -45,13 +45,7 @@ def batch_cost(swr, loss_db, band_index, weights, limit: float, spec) -> np.ndar
     ndarray
         ``(nvar,)`` cost.
     """
-    point = spec.swr_weight * swr_penalty(swr, limit, spec.swr_softness) \
-        + spec.loss_weight * loss_db
-    w = np.asarray(weights, dtype=float)
-    bands = np.stack([point[:, band_index == k].mean(axis=1) for k in range(w.size)], axis=1)
-    if spec.combine == "worst":
-        return bands[:, w > 0].max(axis=1)
-    return bands @ w / w.sum()
+    return score_arrays(swr, loss_db, band_index, weights, limit, spec).cost
 
 
 def _grid(p) -> np.ndarray | None:

@@ -149,7 +149,7 @@ def write_outputs(study, design, space, out: Path, *, storage_shown: str,
                   solver=None) -> StudyOutputs:
     """Write best.yaml, leaderboard.csv, best-bands.txt and best/ for a study."""
     from necflow.config.fields import apply
-    from necflow.pipeline import evaluate
+    from necflow.chain import evaluate
     from necflow.report import run_folder
 
     started = run_folder.now_utc()

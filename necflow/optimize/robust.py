@@ -23,7 +23,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from necflow.chain import Chain
+from necflow.chain.cases import evaluate_cases
+from necflow.config.tolerances import base_values, parse_tolerances, perturbations
 from necflow.errors import ConfigError
+from necflow.optimize.cost import horizontal_extent, objective_values, score, score_arrays
 
 
 @dataclass(frozen=True)
@@ -100,8 +104,6 @@ def robust_plan(design, space=None) -> RobustPlan | None:
         When there are no tolerances to draw from, or the season ground
         would overwrite a searched ground constant.
     """
-    from necflow.calibrate.tolerance import parse_tolerances, perturbations
-
     spec = design.cost.robust
     if spec is None:
         return None
@@ -135,6 +137,11 @@ def check_method(design, method: str) -> None:
 def robust_score(design, plan: RobustPlan, cache) -> RobustScore:
     """Score ``design`` over the plan's cases applied to it.
 
+    The cases go through :func:`necflow.chain.cases.evaluate_cases` (one
+    antenna response per geometry state, the feed fields of a state in one
+    batch) and are scored by the one cost formula,
+    :func:`necflow.optimize.cost.score_arrays`.
+
     Parameters
     ----------
     design : Design
@@ -149,39 +156,32 @@ def robust_score(design, plan: RobustPlan, cache) -> RobustScore:
         When a case's design is invalid (e.g. an absolute tolerance takes a
         field to zero); the message names the case.
     """
-    from necflow.config.fields import set_values
-    from necflow.calibrate.tolerance import base_values
-    from necflow.catalog.bands import resolve_bands
-    from necflow.model import build_model
-    from necflow.optimize.evaluator import score_design
-    from necflow.model import check_variant
-    from necflow.pipeline import band_points
-
+    chain = Chain(design, cache)
     base = base_values(design, plan.tolerances)
-    geometry = any(t.geometry for t in plan.tolerances) or \
-        design.tolerances.ground is not None
-    variants, states = [], {}
-    for i, case in enumerate(plan.cases):
-        try:
-            v = set_values(design, case.values(base))
-            key = case.geometry_key()
-            if key not in states:
-                if geometry:
-                    check_variant(v)
-                states[key] = v
-        except ConfigError as exc:
-            raise type(exc)(f"tolerance case {i}: {exc.message}", field=exc.field) from None
-        variants.append(v)
-    f = band_points(resolve_bands(design))[0]
-    f_max = float(f.max())
-    models = [build_model(d, f_max) for d in (design, *states.values())]
-    cache.lookup_many(models, np.unique(f))      # every state solved at most once, together
-    nominal = score_design(design, cache)[1]
-    scores = [score_design(v, cache)[1] for v in variants]
-    vals = np.array([s.values for s in scores], dtype=float)
-    costs = np.array([s.cost for s in scores], dtype=float)
+    values = [case.values(base) for case in plan.cases]
+    states = {case.geometry_key() for case in plan.cases}
+    result = evaluate_cases(chain, values)
+    spec = design.cost
+    weights = [b.weight for b in chain.bands]
+    arrays = score_arrays(result.swr, result.loss_db, chain.band_index, weights,
+                          design.goal.swr_limit, spec)
+    span = None
+    if "span" in spec.objectives:
+        span = np.array([horizontal_extent(c.design) for c in result.chains])
+    vals = objective_values(arrays, spec, span)
+    costs = np.asarray(arrays.cost, dtype=float)
+    nominal = score(chain.evaluation, spec)
     worst = int(np.argmax(costs))
     agg = tuple(_combine(vals[:, j], plan.how) for j in range(vals.shape[1]))
     return RobustScore(values=agg, nominal=nominal, case_values=vals, case_costs=costs,
                        worst_case=worst, states=len(states), how=plan.how,
-                       worst_values=plan.cases[worst].values(base))
+                       worst_values=values[worst])
+
+
+def robust_cost(design, cases: list, cache, how: str = "expected") -> float:
+    """Cost of a design over a scenario set: the mean ("expected") or the
+    largest ("worst") of the optimiser's cost over the cases applied to it
+    (cases from :func:`necflow.config.tolerances.perturbations`)."""
+    if how not in ("expected", "worst"):
+        raise ValueError("how is 'expected' or 'worst'")
+    return robust_score(design, RobustPlan(how, parse_tolerances(design), cases), cache).cost

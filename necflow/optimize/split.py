@@ -14,7 +14,7 @@ Only geometry parameters (``Param.geometry``) need the engine, so:
    response; the best of them wins.  The screening error (screened against
    exact cost of the confirmed geometries) is returned with the result.
 4. **Full check.** The winner is evaluated by the whole pipeline
-   (:func:`necflow.pipeline.evaluate`, every frequency solved over the
+   (:func:`necflow.chain.evaluate`, every frequency solved over the
    design's own ground, scalar power flow) and scored by
    :func:`necflow.optimize.cost.score`: that cost is the one reported.
 
@@ -141,7 +141,7 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
     from necflow.optimize.inner import FeedSearch
     from necflow.model import check_variant
     from necflow.config.fields import apply
-    from necflow.pipeline import band_points, evaluate
+    from necflow.chain import band_points, evaluate
 
     if list(design.cost.objectives) != ["cost"]:
         raise ConfigError("the split search minimises the single objective 'cost'",

@@ -151,7 +151,7 @@ def _alternative_record(alt: Alternative, evaluation, n_points: int, gains: dict
 
 def _optimised(study_dir: Path, evaluation, f_all):
     """The optimised alternative from a study folder, or None."""
-    from necflow.config.load import load_design
+    from necflow.chain import load_design
 
     best_yaml, best_results = study_dir / "best.yaml", study_dir / "best" / "results.json"
     if not (best_yaml.is_file() and best_results.is_file()):

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from necflow.config.load import load_design
+from necflow.chain import load_design
 
 from pathlib import Path
 

@@ -48,8 +48,8 @@ def test_bad_vary_and_target(capsys):
 
 @pytest.mark.engine
 def test_fit_writes_calibrated_design_that_evaluates(tmp_path, capsys):
-    from necflow.config.load import load_design
-    from necflow.pipeline import evaluate
+    from necflow.chain import load_design
+    from necflow.chain import evaluate
 
     out = tmp_path / "fit"
     assert main(["fit", DESIGN, str(MEASURED / "field-doublet-feedpoint.s1p"), "--at",

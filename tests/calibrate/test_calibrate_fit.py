@@ -14,7 +14,7 @@ import pytest
 from necflow.calibrate.fit import SWR_ONLY_NOTE, fit_design
 from necflow.config.fields import build_params, set_values
 from necflow.calibrate.response import Responder
-from necflow.config.load import load_design
+from necflow.chain import load_design
 from necflow.measure.synthetic import synthetic_sweep
 from necflow.measure.types import Measurement
 from necflow.config.sections import SearchParam
@@ -95,7 +95,7 @@ def test_swr_only_says_what_it_cannot_tell(field_doublet, sweep_f):
 
 
 def load_design_text_demo_40m():
-    from necflow.config.load import load_design_text
+    from necflow.chain import load_design_text
     return load_design_text("""
 name: wet-ladder
 bands: [{name: 40m, points: 5}]

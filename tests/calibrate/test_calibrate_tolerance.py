@@ -5,7 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from necflow.calibrate.tolerance import monte_carlo, parse_tolerances, scenarios
+from necflow.calibrate.tolerance import monte_carlo
+from necflow.config.tolerances import parse_tolerances, scenarios
 from necflow.errors import ConfigError
 
 

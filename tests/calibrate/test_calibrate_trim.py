@@ -13,7 +13,7 @@ import pytest
 from necflow.calibrate.advice import E12, instruction, nearest_e12
 from necflow.calibrate.response import Responder
 from necflow.calibrate.trim import TOLERANCE, swr_minimum, trim_design
-from necflow.config.load import load_design
+from necflow.chain import load_design
 from necflow.measure.types import gamma_from_z
 
 from pathlib import Path

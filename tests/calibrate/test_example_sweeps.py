@@ -23,7 +23,7 @@ from necflow import units
 from necflow.calibrate.fit import fit_design
 from necflow.config.fields import build_params
 from necflow.calibrate.response import Responder
-from necflow.config.load import load_design
+from necflow.chain import load_design
 from necflow.measure import read_measurement
 
 MEASURED = Path(__file__).resolve().parents[2] / "configs" / "measured"

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 
-from necflow.config.load import load_design
+from necflow.chain import load_design
 from necflow.errors import ConfigError
 
 

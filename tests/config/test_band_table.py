@@ -7,7 +7,7 @@ import pytest
 from bad_cases import BASE
 
 from necflow.catalog.bands import TABLES, Band, band_names, resolve_bands
-from necflow.config.load import load_design_text
+from necflow.chain import load_design_text
 from necflow.errors import ConfigError
 
 NAMES = ["160m", "80m", "60m", "40m", "30m", "20m", "17m", "15m", "12m", "10m"]

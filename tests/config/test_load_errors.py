@@ -10,7 +10,7 @@ import tracemalloc
 import pytest
 from bad_cases import BAD_CASES, BASE, BadCase
 
-from necflow.config.load import load_design, load_design_text
+from necflow.chain import load_design, load_design_text
 from necflow.errors import ConfigError
 
 # Words of the validation library that must never reach the user.

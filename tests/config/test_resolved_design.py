@@ -11,7 +11,7 @@ import yaml
 from bad_cases import BASE
 
 from necflow import units
-from necflow.config.load import load_design, load_design_text
+from necflow.chain import load_design, load_design_text
 from necflow.config.resolve import (config_sha256, exact_quantity, resolve_design,
                                     resolved_yaml)
 

@@ -55,7 +55,7 @@ PRELOAD = (
     "matplotlib", "matplotlib.pyplot",
     "necflow.cli", "necflow.units", "necflow.config.load", "necflow.config.schema",
     "necflow.config.resolve", "necflow.catalog.bands", "necflow.catalog.lines",
-    "necflow.catalog.grounds", "necflow.model", "necflow.pipeline",
+    "necflow.catalog.grounds", "necflow.model", "necflow.chain",
     "necflow.engine.pynec_adapter", "necflow.engine.cache", "necflow.engine.parallel",
     "necflow.feed.chain", "necflow.analysis.powerflow", "necflow.report.run_folder",
     "necflow.report.tables", "necflow.report.decision",

@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from necflow.config.load import load_design_text
+from necflow.chain import load_design_text
 from necflow.errors import ConfigError
 from necflow.model.clearance import clearance_problems, segment_distances
 from necflow.model.types import WireSpan

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from necflow.analysis import analyse
-from necflow.config.load import load_design_text
+from necflow.chain import load_design_text
 from necflow.feed import build_chain
 from necflow.feed.batch import FeedBatch
 from necflow.optimize.cost import score
@@ -17,7 +17,7 @@ from necflow.optimize.evaluator import score_design
 from necflow.optimize.inner import FeedSearch
 from necflow.config.fields import apply
 from necflow.optimize.space import build_space
-from necflow.pipeline import band_points, evaluate
+from necflow.chain import band_points, evaluate
 from necflow.catalog.bands import resolve_bands
 from tests.conftest import dipole_like_solver
 

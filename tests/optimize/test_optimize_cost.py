@@ -17,6 +17,7 @@ import pytest
 
 from necflow.optimize.cost import (SWR_CAP, combine_bands, horizontal_extent, point_cost,
                                    score, swr_penalty)
+from necflow.config.schema import Design
 from necflow.config.sections import CostSpec
 
 # Float64 arithmetic of a handful of logs and exps: 1e-12 relative is far
@@ -69,8 +70,9 @@ def test_combine_weighted_mean_and_worst():
 
 def _evaluation(swr, loss, band_index, weights, limit=2.0, span=30.0):
     bands = [SimpleNamespace(name=f"b{i}", weight=w) for i, w in enumerate(weights)]
-    design = SimpleNamespace(goal=SimpleNamespace(swr_limit=limit),
-                             antenna=SimpleNamespace(shape="doublet", span=span))
+    design = Design(name="cost", bands=["40m"], ground={"model": "free-space"}, feed=[],
+                    antenna={"shape": "doublet", "span": span, "height": 10.0},
+                    goal={"swr_limit": limit})
     system = SimpleNamespace(swr=np.asarray(swr, float), loss_db={"total": np.asarray(loss)})
     return SimpleNamespace(design=design, bands=bands, system=system,
                            band_index=np.asarray(band_index))
@@ -109,6 +111,7 @@ def test_zero_weight_band_is_left_out_of_worst_swr():
 
 def test_horizontal_extent_of_an_inverted_v():
     # legs of 10 m dropping 6 m: each reaches sqrt(100 - 36) = 8 m out
-    a = SimpleNamespace(shape="inverted-v", leg=10.0, apex_height=12.0, end_height=6.0,
-                        droop=None)
-    assert horizontal_extent(SimpleNamespace(antenna=a)) == pytest.approx(16.0, rel=REL)
+    d = Design(name="v", bands=["40m"], ground={"model": "free-space"}, feed=[],
+               antenna={"shape": "inverted-v", "leg": 10.0, "apex_height": 12.0,
+                        "end_height": 6.0})
+    assert horizontal_extent(d) == pytest.approx(16.0, rel=REL)

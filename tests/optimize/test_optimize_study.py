@@ -11,7 +11,7 @@ import optuna
 import pytest
 from optuna.trial import TrialState
 
-from necflow.config.load import load_design
+from necflow.chain import load_design
 from necflow.errors import ConfigError
 from necflow.optimize.outputs import write_outputs
 from necflow.optimize.space import load_study_design

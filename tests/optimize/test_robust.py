@@ -14,8 +14,9 @@ import optuna
 import pytest
 from optuna.trial import TrialState
 
-from necflow.calibrate.tolerance import perturbations, robust_cost
-from necflow.config.load import load_design
+from necflow.config.tolerances import perturbations
+from necflow.optimize.robust import robust_cost
+from necflow.chain import load_design
 from necflow.errors import ConfigError
 from necflow.optimize.cost import score
 from necflow.engine.response import ResponseCache
@@ -23,7 +24,7 @@ from necflow.optimize.robust import check_method, robust_plan, robust_score
 from necflow.config.fields import apply
 from necflow.optimize.space import load_study_design
 from necflow.optimize.study import StudyOptions, run_study
-from necflow.pipeline import evaluate
+from necflow.chain import evaluate
 from tests.conftest import dipole_like_solver
 from tests.optimize.helpers import STUDY, write_study
 

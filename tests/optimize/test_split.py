@@ -12,7 +12,7 @@ import itertools
 import numpy as np
 import pytest
 
-from necflow.config.load import load_design_text
+from necflow.chain import load_design_text
 from necflow.engine.response import ResponseCache
 from necflow.optimize.evaluator import score_design
 from necflow.config.fields import apply

@@ -20,10 +20,10 @@ import warnings
 import numpy as np
 import pytest
 
-from necflow.config.load import load_design
+from necflow.chain import load_design
 from necflow.engine.far_field import FarField
 from necflow.errors import NecflowWarning
-from necflow.pipeline import evaluate
+from necflow.chain import evaluate
 from necflow.report.html_report import write_report
 from necflow.report.report_data import build_report_data, write_report_data
 from necflow.report.results import results_document, write_json

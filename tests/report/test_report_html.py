@@ -17,9 +17,9 @@ import pytest
 import skrf
 
 from necflow.cli import main
-from necflow.config.load import load_design
+from necflow.chain import load_design
 from necflow.config.resolve import resolved_yaml
-from necflow.pipeline import evaluate
+from necflow.chain import evaluate
 from necflow.report.results import results_document, write_json
 from tests.conftest import CONFIGS, ROOT
 

@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 import skrf
 
-from necflow.config.load import load_design
-from necflow.pipeline import evaluate
+from necflow.chain import load_design
+from necflow.chain import evaluate
 from necflow.report.results import results_document
 from necflow.report.touchstone import write_from_results, write_s1p
 from tests.conftest import CONFIGS, dipole_like_solver
