@@ -6,8 +6,6 @@ import math
 
 import numpy as np
 
-from necflow.feed import twoport
-
 
 def ideal_transformer_abcd(nfreq: int, ratio: float) -> np.ndarray:
     """ABCD of an ideal transformer of impedance ratio ``ratio``.
@@ -73,7 +71,20 @@ def series_loss_abcd(nfreq: int, loss_db: float, r0: float) -> np.ndarray:
 LOSS_MODELS = ("series", "pad")
 
 
-def transformer_abcd(f, ratio: float, loss_db: float, r_radio: float,
+def _each(fn, x) -> np.ndarray:
+    """``fn`` (a :mod:`math` function of one float) at every entry of ``x``.
+
+    The C library's value, entry by entry: numpy's vectorised ``cosh``,
+    ``sinh`` and ``power`` may differ from it in the last bit, and one design
+    and each entry of a batch must give the same numbers.
+    """
+    x = np.asarray(x, dtype=float)
+    if x.ndim == 0:
+        return np.asarray(fn(float(x)))
+    return np.frompyfunc(fn, 1, 1)(x).astype(float)
+
+
+def transformer_abcd(f, ratio, loss_db, r_radio: float,
                      loss_model: str = "series") -> np.ndarray:
     """A transformer or balun: loss element (radio side) then ideal ratio.
 
@@ -81,10 +92,12 @@ def transformer_abcd(f, ratio: float, loss_db: float, r_radio: float,
     ----------
     f : array_like
         Frequency [Hz] (the model is frequency independent).
-    ratio : float
-        Impedance ratio, antenna side : radio side.
-    loss_db : float
-        Insertion loss with matched terminations [dB].
+    ratio : float or array_like
+        Impedance ratio, antenna side : radio side; per variant as an array
+        of the variant axes alone (``(nvar,)`` for one axis).
+    loss_db : float or array_like
+        Insertion loss with matched terminations [dB]; per variant as
+        ``ratio``.
     r_radio : float
         Reference impedance on the radio side [ohm]; the antenna side's is
         ``ratio * r_radio``.  With those terminations the loss is exactly
@@ -100,10 +113,17 @@ def transformer_abcd(f, ratio: float, loss_db: float, r_radio: float,
     Returns
     -------
     ndarray
-        ``(nfreq, 2, 2)``.
+        ``(nfreq, 2, 2)``, or ``(..., nfreq, 2, 2)`` with the variant axes of
+        ``ratio`` and ``loss_db`` broadcast.
 
     Notes
     -----
+    The result is the product ``L @ T`` of the loss element ``L``
+    (:func:`series_loss_abcd` or :func:`matched_attenuator_abcd`) and the
+    ideal transformer ``T = [[1/N, 0], [0, N]]``
+    (:func:`ideal_transformer_abcd`), ``N = sqrt(ratio)``, written out:
+    ``[[L11 / N, L12 N], [L21 / N, L22 N]]``.
+
     A real balun's loss depends on the load, the core and the common-mode
     current it has to choke; the two models bracket the differential-mode
     behaviour and common-mode current is not modelled.
@@ -113,10 +133,21 @@ def transformer_abcd(f, ratio: float, loss_db: float, r_radio: float,
     .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, table 4.1.
     """
     nf = np.atleast_1d(np.asarray(f)).size
+    loss = np.asarray(loss_db, dtype=float)
     if loss_model == "series":
-        loss = series_loss_abcd(nf, loss_db, r_radio)
+        ch, sh_r, sh_g = 1.0, r_radio * (_each(lambda v: 10.0 ** v, loss / 10.0) - 1.0), 0.0
     elif loss_model == "pad":
-        loss = matched_attenuator_abcd(nf, loss_db, r_radio)
+        a = loss * math.log(10.0) / 20.0
+        ch, sh = _each(math.cosh, a), _each(math.sinh, a)
+        sh_r, sh_g = r_radio * sh, sh / r_radio
     else:
         raise ValueError(f"loss_model is one of {LOSS_MODELS}, not {loss_model!r}")
-    return loss @ ideal_transformer_abcd(nf, ratio)
+    n = np.sqrt(np.asarray(ratio, dtype=float))
+    inv_n = 1.0 / n
+    shape = np.broadcast_shapes(np.shape(sh_r), n.shape) + (nf,)
+    out = np.empty(shape + (2, 2), dtype=complex)
+    out[..., 0, 0] = (ch * inv_n)[..., None]
+    out[..., 0, 1] = (sh_r * n)[..., None]
+    out[..., 1, 0] = (sh_g * inv_n)[..., None]
+    out[..., 1, 1] = (ch * n)[..., None]
+    return out
