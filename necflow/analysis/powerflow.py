@@ -1,14 +1,14 @@
 """Power flow through the feed chain for a radio of given available power.
 
 The radio is a source of available power ``P`` with a real source resistance
-``z_ref``: open-circuit RMS voltage ``E = sqrt(4 P z_ref)``.  The current
-into the chain follows from the impedance the radio sees; stepping through
-each element with its inverse ABCD gives voltage and current at every node
-(node 0 the radio terminals, node N the antenna feedpoint); the sweep runs
-from the feedpoint with the forward ABCD and is scaled to the source, which
-gives the same nodes as stepping from the radio with inverse ABCDs but keeps
-full precision behind strongly mismatched elements.  With
-``P_k = Re(V_k I_k*)``:
+``z_ref``: open-circuit RMS voltage ``E = sqrt(4 P z_ref)``.  The state at
+every node (node 0 the radio terminals, node N the antenna feedpoint) comes
+from the sweep of :mod:`necflow.feed.power`: from the feedpoint with the
+forward ABCD, scaled to the source, which gives the same nodes as stepping
+from the radio with inverse ABCDs but keeps full precision behind strongly
+mismatched elements.  The impedance at the radio, the delivered fraction and
+the total loss are those of :mod:`necflow.feed.power` too, the very figures a
+batch of variants gets.  With ``P_k = Re(V_k I_k*)``:
 
 * mismatch loss at the radio ``P - P_0`` (equals ``P |G|^2``),
 * dissipation in each element ``P_in - P_out``,
@@ -25,9 +25,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from necflow.analysis import metrics
 from necflow.feed import line as tl
-from necflow.feed import twoport
+from necflow.feed import metrics, power
 from necflow.feed.chain import FeedChain
 
 
@@ -178,27 +177,19 @@ def analyse(chain: FeedChain, f, z_feedpoint, z_ref: float = 50.0,
     nf = f.size
     zfp = np.broadcast_to(np.asarray(z_feedpoint, dtype=complex), (nf,)).copy()
     mats = chain.matrices(f)          # antenna side first; each computed once
-    total = twoport.cascade(mats, nfreq=nf)
-    z_radio = twoport.input_impedance(total, zfp)
-    gamma = metrics.reflection_coefficient(z_radio, z_ref)
 
-    # Sweep from the load toward the radio with the forward ABCD (V_N = Z_fp,
-    # I_N = 1, or V_N = 1, I_N = 0 for an open), then scale every node by the
-    # one complex factor the source fixes: E = V_0 + z_ref I_0.  This is the
-    # inverse-ABCD walk from the radio done the well-conditioned way: the
-    # feedpoint relation V_N = Z_fp I_N holds exactly, even behind parts that
-    # shunt nearly all the current away from the antenna.
-    e = math.sqrt(4.0 * power_w * z_ref)
+    # The unscaled states from the feedpoint (node N) to the radio (node 0),
+    # then every node scaled by the one complex factor the source fixes.
     n = len(mats)
     node_v = np.empty((nf, n + 1), dtype=complex)
     node_i = np.empty((nf, n + 1), dtype=complex)
-    is_open = np.isinf(zfp)
-    node_v[:, n] = np.where(is_open, 1.0, zfp)
-    node_i[:, n] = np.where(is_open, 0.0, 1.0)
-    for k in range(n - 1, -1, -1):      # node k is the radio side of mats[n-1-k]
-        node_v[:, k], node_i[:, k] = twoport.apply(mats[n - 1 - k], node_v[:, k + 1],
-                                                   node_i[:, k + 1])
-    scale = e / (node_v[:, 0] + z_ref * node_i[:, 0])
+    for j, (v, i) in enumerate(power.states_toward_radio(mats, zfp)):
+        node_v[:, n - j], node_i[:, n - j] = v, i
+    v0, i0, vn, i_n = node_v[:, 0], node_i[:, 0], node_v[:, n], node_i[:, n]
+    z_radio = power.radio_impedance(v0, i0)
+    gamma = metrics.reflection_coefficient(z_radio, z_ref)
+    fraction = power.delivered_fraction(v0, i0, vn, i_n, z_ref)
+    scale = power.source_scale(v0, i0, z_ref, power_w)
     node_v *= scale[:, None]
     node_i *= scale[:, None]
     node_p = (node_v * node_i.conj()).real
@@ -216,7 +207,7 @@ def analyse(chain: FeedChain, f, z_feedpoint, z_ref: float = 50.0,
         p_diss[el.id] = p_in - p_out
         loss[el.id] = _db(p_in, p_out)
         stress[el.id] = _stress(el, f, v1, i1, v2, i2, p_in, p_out)
-    loss["total"] = _db(p_avail, p_delivered)
+    loss["total"] = power.total_loss_db(fraction)
     # Present dissipation and losses in design order (antenna side first).
     p_diss = {i: p_diss[i] for i in ids}
     loss = {"mismatch": loss["mismatch"], **{i: loss[i] for i in ids}, "total": loss["total"]}
@@ -226,7 +217,7 @@ def analyse(chain: FeedChain, f, z_feedpoint, z_ref: float = 50.0,
         z_feedpoint=zfp, z_radio=z_radio, gamma=gamma, swr=metrics.swr(gamma),
         return_loss_db=metrics.return_loss_db(gamma), node_v=node_v, node_i=node_i,
         node_p_w=node_p, p_mismatch_w=p_mismatch, p_dissipated_w=p_diss,
-        p_delivered_w=p_delivered, loss_db=loss, delivered_fraction=p_delivered / p_avail,
+        p_delivered_w=p_delivered, loss_db=loss, delivered_fraction=fraction,
         stress=stress)
 
 

@@ -23,6 +23,25 @@ from necflow.feed.lumped import part_abcd, part_impedance
 from necflow.feed.transformer import transformer_abcd
 
 
+def _propagation(lt: LineType, model: str, f) -> tuple[np.ndarray, np.ndarray]:
+    """``gamma`` [1/m] and ``Zc`` [ohm] of one line type, ``(nfreq,)`` each."""
+    if model == "real-z0":
+        alpha = lt.conductor_np_per_m(f) + lt.dielectric_np_per_m(f)
+        return tl.propagation_real_z0(f, lt.z0, lt.velocity_factor, alpha)
+    r, l, g, c = tl.rlgc_from_nominal(f, lt.z0, lt.velocity_factor,
+                                      lt.conductor_np_per_m(f), lt.dielectric_np_per_m(f))
+    return tl.propagation_rlgc(f, r, l, g, c)
+
+
+def _distinct(objects: np.ndarray) -> tuple[list, np.ndarray]:
+    """The distinct objects of an object array (by identity) and, for each
+    entry, the index of its object among them (flat)."""
+    flat = objects.ravel()
+    keys = np.frompyfunc(id, 1, 1)(flat).astype(np.uint64)
+    _, first, inv = np.unique(keys, return_index=True, return_inverse=True)
+    return [flat[j] for j in first], inv.reshape(-1)
+
+
 @dataclass(frozen=True)
 class LineSection:
     """A length of line.
@@ -30,11 +49,16 @@ class LineSection:
     ``model='rlgc'`` (the default) derives R, L, G, C from the line type's
     nominal Z0, velocity factor and attenuation and so has a complex Zc;
     ``model='real-z0'`` keeps Zc = Z0 real (the textbook lossy line).
+
+    For a batch of variants ``length`` may be an array of the variant axes
+    (``(nvar,)`` for one axis) and ``line_type`` an object array of
+    :class:`LineType` of such a shape; :meth:`propagation` is then
+    ``(..., nfreq)`` and :meth:`abcd` ``(..., nfreq, 2, 2)``.
     """
 
     id: str
-    line_type: LineType
-    length: float
+    line_type: LineType | np.ndarray
+    length: float | np.ndarray
     model: str = "rlgc"
     kind: str = field(default="line", init=False)
 
@@ -45,40 +69,61 @@ class LineSection:
                 "velocity_factor": self.line_type.velocity_factor, "model": self.model}
 
     def propagation(self, f) -> tuple[np.ndarray, np.ndarray]:
-        """``gamma`` [1/m] and ``Zc`` [ohm] at ``f`` [Hz]."""
-        lt = self.line_type
-        if self.model == "real-z0":
-            alpha = lt.conductor_np_per_m(f) + lt.dielectric_np_per_m(f)
-            return tl.propagation_real_z0(f, lt.z0, lt.velocity_factor, alpha)
-        r, l, g, c = tl.rlgc_from_nominal(f, lt.z0, lt.velocity_factor,
-                                          lt.conductor_np_per_m(f), lt.dielectric_np_per_m(f))
-        return tl.propagation_rlgc(f, r, l, g, c)
-
-    def abcd(self, f) -> np.ndarray:
-        """``(nfreq, 2, 2)``; warns once if ``f`` leaves the line data's range."""
+        """``gamma`` [1/m] and ``Zc`` [ohm] at ``f`` [Hz]: ``(nfreq,)`` each,
+        ``(..., nfreq)`` for an array of line types (each distinct type
+        computed once)."""
+        if not isinstance(self.line_type, np.ndarray):
+            return _propagation(self.line_type, self.model, f)
         f = np.atleast_1d(np.asarray(f, dtype=float))
-        lo, hi = self.line_type.valid_range_hz
-        outside = (f < lo) | (f > hi)
-        if np.any(outside):
-            warnings.warn(
-                f"feed element '{self.id}': {int(outside.sum())} frequency(ies) outside "
-                f"{lo / 1e6:.3g}-{hi / 1e6:.3g} MHz, the range the loss data of line type "
-                f"'{self.line_type.name}' support; its loss there is extrapolated",
-                NecflowWarning, stacklevel=2)
+        types, inv = _distinct(self.line_type)
+        gamma = np.empty((len(types), f.size), dtype=complex)
+        zc = np.empty_like(gamma)
+        for k, lt in enumerate(types):
+            gamma[k], zc[k] = _propagation(lt, self.model, f)
+        shape = self.line_type.shape + (f.size,)
+        return gamma[inv].reshape(shape), zc[inv].reshape(shape)
+
+    def abcd(self, f, *, warn: bool = True) -> np.ndarray:
+        """``(nfreq, 2, 2)``, or ``(..., nfreq, 2, 2)`` for per-variant
+        lengths or line types; warns once per line type if ``f`` leaves the
+        line data's range (unless ``warn`` is False)."""
+        f = np.atleast_1d(np.asarray(f, dtype=float))
+        types = (_distinct(self.line_type)[0] if isinstance(self.line_type, np.ndarray)
+                 else [self.line_type])
+        for lt in types if warn else ():
+            lo, hi = lt.valid_range_hz
+            outside = (f < lo) | (f > hi)
+            if np.any(outside):
+                warnings.warn(
+                    f"feed element '{self.id}': {int(outside.sum())} frequency(ies) outside "
+                    f"{lo / 1e6:.3g}-{hi / 1e6:.3g} MHz, the range the loss data of line type "
+                    f"'{lt.name}' support; its loss there is extrapolated",
+                    NecflowWarning, stacklevel=2)
         gamma, zc = self.propagation(f)
-        return tl.line_abcd(gamma, zc, self.length)
+        length = np.asarray(self.length, dtype=float)
+        if length.ndim and gamma.ndim == 1:
+            # a grid repeats each length many times: compute each distinct one once
+            u, inv = np.unique(length.ravel(), return_inverse=True)
+            if u.size < length.size:
+                m = tl.line_abcd(gamma, zc, u)
+                return m[inv.reshape(-1)].reshape(length.shape + m.shape[1:])
+        return tl.line_abcd(gamma, zc, length)
 
 
 @dataclass(frozen=True)
 class LumpedPart:
-    """A capacitor, inductor or resistor in series or across the line."""
+    """A capacitor, inductor or resistor in series or across the line.
+
+    ``value``, ``q`` and ``esr`` may be arrays of the variant axes (``(nvar,)``
+    for one axis): :meth:`abcd` is then ``(..., nfreq, 2, 2)``.
+    """
 
     id: str
     placement: str          # 'series' | 'shunt'
     part: str               # 'capacitor' | 'inductor' | 'resistor'
-    value: float            # F, H or ohm
-    q: float | None = None
-    esr: float | None = None
+    value: float | np.ndarray            # F, H or ohm
+    q: float | np.ndarray | None = None
+    esr: float | np.ndarray | None = None
 
     @property
     def kind(self) -> str:
@@ -89,20 +134,25 @@ class LumpedPart:
         return {"part": self.part, "value": self.value, "q": self.q, "esr_ohm": self.esr}
 
     def impedance(self, f) -> np.ndarray:
-        """Part impedance [ohm]."""
+        """Part impedance [ohm], ``(nfreq,)`` or ``(..., nfreq)``."""
         return part_impedance(f, self.part, self.value, self.q, self.esr)
 
     def abcd(self, f) -> np.ndarray:
+        """``(nfreq, 2, 2)``, or ``(..., nfreq, 2, 2)`` per variant."""
         return part_abcd(f, self.placement, self.part, self.value, self.q, self.esr)
 
 
 @dataclass(frozen=True)
 class Transformer:
-    """Transformer or balun: ideal ratio (antenna : radio) and matched loss."""
+    """Transformer or balun: ideal ratio (antenna : radio) and matched loss.
+
+    ``ratio`` and ``loss_db`` may be arrays of the variant axes (``(nvar,)``
+    for one axis): :meth:`abcd` is then ``(..., nfreq, 2, 2)``.
+    """
 
     id: str
-    ratio: float
-    loss_db: float
+    ratio: float | np.ndarray
+    loss_db: float | np.ndarray
     r_radio: float = 50.0
     label: str = "transformer"
     loss_model: str = "series"
@@ -114,6 +164,7 @@ class Transformer:
                 "r_radio_ohm": self.r_radio, "loss_model": self.loss_model}
 
     def abcd(self, f) -> np.ndarray:
+        """``(nfreq, 2, 2)``, or ``(..., nfreq, 2, 2)`` per variant."""
         return transformer_abcd(f, self.ratio, self.loss_db, self.r_radio, self.loss_model)
 
 
@@ -122,7 +173,12 @@ FeedElement = LineSection | LumpedPart | Transformer
 
 @dataclass(frozen=True)
 class FeedChain:
-    """Elements listed from the antenna toward the radio."""
+    """Elements listed from the antenna toward the radio.
+
+    Elements holding per-variant arrays (see :class:`LineSection`,
+    :class:`LumpedPart`, :class:`Transformer`) make the chain a batch of
+    variants: its matrices are ``(..., nfreq, 2, 2)``.
+    """
 
     elements: tuple[FeedElement, ...] = ()
 
@@ -138,7 +194,8 @@ class FeedChain:
         return [e.abcd(f) for e in self.elements]
 
     def abcd(self, f) -> np.ndarray:
-        """Whole-chain ABCD, radio at port 1, ``(nfreq, 2, 2)``."""
+        """Whole-chain ABCD, radio at port 1, ``(nfreq, 2, 2)`` (``(..., nfreq,
+        2, 2)`` for a batch)."""
         f = np.atleast_1d(np.asarray(f, dtype=float))
         return twoport.cascade(self.matrices(f), nfreq=f.size)
 

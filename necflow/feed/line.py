@@ -115,38 +115,46 @@ def propagation_real_z0(f, z0: float, vf: float, alpha):
     return gamma, np.full(f.shape, complex(z0))
 
 
-def line_abcd(gamma, zc, length: float) -> np.ndarray:
-    """ABCD of a uniform line section.
+def line_abcd(gamma, zc, length) -> np.ndarray:
+    """ABCD of uniform line sections, one design or a batch of variants.
 
     ``[[cosh gl, Zc sinh gl], [sinh gl / Zc, cosh gl]]``.
 
     Parameters
     ----------
     gamma : array_like
-        Propagation constant [1/m], ``(nfreq,)``.
+        Propagation constant [1/m], ``(nfreq,)``, or ``(..., nfreq)`` with
+        leading variant axes (one line type per variant).
     zc : array_like
-        Characteristic impedance [ohm], scalar or ``(nfreq,)``.
-    length : float
-        Physical length [m].
+        Characteristic impedance [ohm], scalar or shaped like ``gamma``.
+    length : float or array_like
+        Physical length [m]: a number, or an array of the variant axes alone
+        (``(nvar,)`` for one axis), one length per variant; a frequency axis
+        is appended to it.
 
     Returns
     -------
     ndarray
-        ``(nfreq, 2, 2)`` complex.
+        ``(nfreq, 2, 2)`` complex for a scalar length and ``gamma`` of one
+        line type, else ``(..., nfreq, 2, 2)`` with the variant axes of
+        ``length`` and ``gamma`` broadcast.
 
     References
     ----------
     .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, table
        4.1 (transmission line, lossy form with ``gamma l``).
     """
-    gl = np.atleast_1d(np.asarray(gamma, dtype=complex)) * length
-    zc = np.broadcast_to(np.asarray(zc, dtype=complex), gl.shape)
+    gl = np.atleast_1d(np.asarray(gamma, dtype=complex)) \
+        * np.asarray(length, dtype=float)[..., None]
+    zc = np.asarray(zc, dtype=complex)
+    shape = np.broadcast_shapes(gl.shape, zc.shape)
+    gl, zc = np.broadcast_to(gl, shape), np.broadcast_to(zc, shape)
     ch, sh = np.cosh(gl), np.sinh(gl)
     out = np.empty(gl.shape + (2, 2), dtype=complex)
-    out[:, 0, 0] = ch
-    out[:, 0, 1] = zc * sh
-    out[:, 1, 0] = sh / zc
-    out[:, 1, 1] = ch
+    out[..., 0, 0] = ch
+    out[..., 0, 1] = zc * sh
+    out[..., 1, 0] = sh / zc
+    out[..., 1, 1] = ch
     return out
 
 

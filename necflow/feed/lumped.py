@@ -1,4 +1,10 @@
-"""Lumped capacitors, inductors and resistors, with loss from Q or ESR."""
+"""Lumped capacitors, inductors and resistors, with loss from Q or ESR.
+
+One design or a batch of variants: a part's value, Q and ESR may be arrays of
+the variant axes alone (``(nvar,)`` for one axis); a frequency axis is
+appended to them and the results are ``(..., nfreq)`` impedances and
+``(..., nfreq, 2, 2)`` ABCD arrays.
+"""
 
 from __future__ import annotations
 
@@ -13,28 +19,35 @@ from necflow.feed import twoport
 DEFAULT_Q = {"capacitor": 1000.0, "inductor": 200.0}
 
 
-def part_impedance(f, kind: str, value: float, q: float | None = None,
-                   esr: float | None = None) -> np.ndarray:
+def _per_variant(x) -> np.ndarray:
+    """A number or an array of variant axes, with a frequency axis appended."""
+    return np.asarray(x, dtype=float)[..., None]
+
+
+def part_impedance(f, kind: str, value, q=None, esr=None) -> np.ndarray:
     """Impedance of a lumped part.
 
     Parameters
     ----------
     f : array_like
-        Frequency [Hz].
+        Frequency [Hz], ``(nfreq,)``.
     kind : {'capacitor', 'inductor', 'resistor'}
         The part.
-    value : float
-        Capacitance [F], inductance [H] or resistance [ohm].
-    q : float, optional
+    value : float or array_like
+        Capacitance [F], inductance [H] or resistance [ohm]; per variant as
+        an array of the variant axes.
+    q : float or array_like, optional
         Unloaded Q, constant over frequency: ``ESR = |X| / Q``.
-    esr : float, optional
-        Equivalent series resistance [ohm] (instead of Q).  With neither,
-        :data:`DEFAULT_Q` applies (capacitor 1000, inductor 200).
+    esr : float or array_like, optional
+        Equivalent series resistance [ohm] (instead of Q; it takes precedence
+        over ``q``).  With neither, :data:`DEFAULT_Q` applies (capacitor
+        1000, inductor 200).
 
     Returns
     -------
     ndarray
-        ``ESR + jX`` [ohm], ``(nfreq,)``.
+        ``ESR + jX`` [ohm], ``(nfreq,)`` for one design, ``(..., nfreq)`` for
+        per-variant arguments (variant axes broadcast).
 
     References
     ----------
@@ -42,8 +55,9 @@ def part_impedance(f, kind: str, value: float, q: float | None = None,
        (unloaded Q of a resonator, ``Q = X / R``).
     """
     w = 2.0 * math.pi * np.atleast_1d(np.asarray(f, dtype=float))
+    value = _per_variant(value)
     if kind == "resistor":
-        return np.full(w.shape, complex(value))
+        return np.broadcast_to(value, np.broadcast_shapes(value.shape, w.shape)).astype(complex)
     if kind == "capacitor":
         x = -1.0 / (w * value)
     elif kind == "inductor":
@@ -51,14 +65,20 @@ def part_impedance(f, kind: str, value: float, q: float | None = None,
     else:
         raise ValueError(f"unknown part kind {kind!r}")
     if esr is None:
-        esr = np.abs(x) / (q if q is not None else DEFAULT_Q[kind])
-    return esr + 1j * x
+        r = np.abs(x) / _per_variant(q if q is not None else DEFAULT_Q[kind])
+    else:
+        r = _per_variant(esr)
+    return r + 1j * x
 
 
-def part_abcd(f, placement: str, kind: str, value: float, q: float | None = None,
-              esr: float | None = None) -> np.ndarray:
+def part_abcd(f, placement: str, kind: str, value, q=None, esr=None) -> np.ndarray:
     """ABCD of a part in series (``[[1, Z], [0, 1]]``) or across the line
-    (``[[1, 0], [1/Z, 1]]``).
+    (``[[1, 0], [1/Z, 1]]``); arguments as :func:`part_impedance`.
+
+    Returns
+    -------
+    ndarray
+        ``(nfreq, 2, 2)``, or ``(..., nfreq, 2, 2)`` for per-variant arguments.
 
     References
     ----------

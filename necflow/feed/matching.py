@@ -20,8 +20,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from necflow.analysis.metrics import reflection_coefficient, swr
 from necflow.feed import twoport
+from necflow.feed.metrics import reflection_coefficient, swr
 
 #: Topology names, by (low-pass?, shunt at load?).
 TOPOLOGIES = {

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from necflow.analysis import metrics
+from necflow.feed import metrics
 
 
 @pytest.mark.parametrize("s,rl,ml", [
