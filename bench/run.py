@@ -185,7 +185,7 @@ def solve_rate(design, workers: int) -> dict:
 def memory_growth(design, space, cache, n_total: int = 10_000, seed: int = 3) -> dict:
     """Resident memory after 100 and after ``n_total`` scored variants (full
     pipeline, antenna responses from the cache: the steady state of a study)."""
-    from necflow.optimize.evaluator import score_design
+    from necflow.optimize.cost import score_design
     from necflow.config.fields import apply
 
     rng = np.random.default_rng(seed)

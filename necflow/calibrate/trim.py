@@ -283,7 +283,6 @@ def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None
     evaluate_steps : bool
         Evaluate every band after each step (for the tables and warnings).
     """
-    from necflow.optimize.evaluator import evaluate_cached
 
     tlist = resolve_targets(design, targets)
     section = adjustable if adjustable else design.adjustable
@@ -333,11 +332,11 @@ def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None
                                     f"{100 * (f / t.frequency_hz - 1):+.1f} % from the target: "
                                     + why)
     steps, warns = [], []
-    before = evaluate_cached(design, responder.cache).band_summaries() if evaluate_steps else []
+    before = responder.chain(design).evaluation.band_summaries() if evaluate_steps else []
     current, prev = design, before
     for p in changed:
         current = set_values(current, {p.path: values[p.path]})
-        after = evaluate_cached(current, responder.cache).band_summaries() if evaluate_steps \
+        after = responder.chain(current).evaluation.band_summaries() if evaluate_steps \
             else []
         out = [a.band for a, b in zip(after, prev)
                if b.fraction_within_limit > 0 and a.fraction_within_limit == 0]

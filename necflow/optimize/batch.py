@@ -177,7 +177,7 @@ def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
     """Evaluate or optimise one cell; writes ``cell.json`` last; returns its summary."""
     from necflow.chain import load_design_text
     from necflow.engine.response import ResponseCache
-    from necflow.optimize.evaluator import score_design
+    from necflow.optimize.cost import score_design
 
     folder.mkdir(parents=True, exist_ok=True)
     fileio.write_text(folder / "design.yaml", text)

@@ -23,6 +23,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from necflow.chain import Chain
 from necflow.model import geometry
 
 SWR_CAP = 1000.0
@@ -217,3 +218,11 @@ def score_from_arrays(a: ArrayScores, k: int, bands, spec, span=None) -> Score:
     values = tuple(float(v) for v in objective_values(a, spec, span)[k])
     return Score(cost=float(a.cost[k]), values=values, bands=terms,
                  worst_swr=float(a.worst_swr[k]), loss_db=float(a.loss_db[k]))
+
+
+def score_design(design, responses=None):
+    """Evaluate and score one design through a :class:`~necflow.chain.Chain`
+    on ``responses`` (a shared ResponseCache, or a solver); returns
+    ``(Evaluation, Score)``."""
+    evaluation = Chain(design, responses).evaluation
+    return evaluation, score(evaluation, design.cost)

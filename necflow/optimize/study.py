@@ -39,7 +39,10 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Callable
 
+from necflow.chain import Chain
 from necflow.errors import ConfigError, NecflowError
+from necflow.optimize.cost import score
+from necflow.optimize.robust import robust_score
 from necflow.optimize.bookkeeping import (COUNTED, DISCARDED, FAIL_REASON, counted_trials,
                                           fail_orphans, take_slot)
 
@@ -188,30 +191,25 @@ def enqueue_start(study, design, space) -> bool:
 # One trial
 
 
-def run_trial(trial, design, space, cache, robust=None) -> tuple[float, ...]:
-    """Suggest, build, check, evaluate and score one variant (over the cases
-    of ``robust``, a :class:`~necflow.optimize.robust.RobustPlan`, if given).
+def run_trial(trial, base: Chain, space, robust=None) -> tuple[float, ...]:
+    """Suggest, build, check, evaluate and score one variant of ``base``'s
+    design (over the cases of ``robust``, a
+    :class:`~necflow.optimize.robust.RobustPlan`, if given).  A variant that
+    changes only feed fields shares the base chain's antenna response.
 
     Raises
     ------
     TrialFailure
         With the reason, when the variant is invalid or cannot be evaluated.
     """
-    from necflow.optimize.evaluator import score_design
-    from necflow.optimize.robust import robust_score
-    from necflow.model import check_variant
-    from necflow.config.fields import apply
-
     values = space.suggest(trial)
     try:
-        variant = apply(design, values)
-        if space.geometry_paths:
-            check_variant(variant)
+        variant = base.variant(values)
         if robust is None:
-            _, sc = score_design(variant, cache)
+            sc = score(variant.evaluation, variant.design.cost)
             result = sc.values
         else:
-            rs = robust_score(variant, robust, cache)
+            rs = robust_score(variant.design, robust, base.responses)
             sc, result = rs.nominal, rs.values
     except Exception as exc:  # any failure of one variant must not end the study
         raise TrialFailure(f"{type(exc).__name__}: {exc}") from None
@@ -280,6 +278,7 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
         from necflow.engine.cache import SolveStore
         store = SolveStore(options.out)
     cache = ResponseCache(solver, store=store)
+    base = Chain(design, cache)
     storage = study._storage
     beats = hasattr(storage, "get_heartbeat_interval") and storage.get_heartbeat_interval()
     host, pid = socket.gethostname(), os.getpid()
@@ -305,7 +304,7 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
             state, values, reason = TrialState.FAIL, None, None
             try:
                 sig.in_trial = True
-                values = run_trial(trial, design, space, cache, robust)
+                values = run_trial(trial, base, space, robust)
                 sig.in_trial = False
                 state = TrialState.COMPLETE
             except TrialFailure as exc:

@@ -13,7 +13,7 @@ from necflow.feed import build_chain
 from necflow.feed.batch import FeedBatch
 from necflow.optimize.cost import score
 from necflow.engine.response import ResponseCache
-from necflow.optimize.evaluator import score_design
+from necflow.optimize.cost import score_design
 from necflow.optimize.inner import FeedSearch
 from necflow.config.fields import apply
 from necflow.optimize.space import build_space

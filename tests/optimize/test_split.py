@@ -14,7 +14,7 @@ import pytest
 
 from necflow.chain import load_design_text
 from necflow.engine.response import ResponseCache
-from necflow.optimize.evaluator import score_design
+from necflow.optimize.cost import score_design
 from necflow.config.fields import apply
 from necflow.optimize.space import build_space
 from necflow.optimize.split import split_search
