@@ -188,7 +188,7 @@ def cmd_check(args) -> int:
 
 
 def _print_convergence(design) -> None:
-    from necflow.analysis.convergence import check_convergence
+    from necflow.chain.convergence import check_convergence
 
     try:
         report = check_convergence(design)
@@ -230,7 +230,7 @@ def cmd_evaluate(args) -> int:
                                       study_dir=getattr(args, "study", None))
     convergence = None
     if getattr(args, "convergence", False):
-        from necflow.analysis.convergence import check_convergence
+        from necflow.chain.convergence import check_convergence
         from necflow.report.results import write_json
 
         try:

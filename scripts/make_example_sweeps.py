@@ -23,7 +23,7 @@ sys.path.insert(0, str(ROOT))
 
 from necflow import fileio  # noqa: E402
 from necflow.chain import load_design
-from necflow.measure.synthetic import csv_swr_text, synthetic_sweep, touchstone_text  # noqa: E402
+from necflow.calibrate.synthetic import csv_swr_text, synthetic_sweep, touchstone_text  # noqa: E402
 
 FOLDER = ROOT / "configs" / "measured"
 DESIGN = FOLDER / "field-doublet.yaml"

@@ -122,7 +122,7 @@ def chain_text(chain: FeedChain) -> str:
     return " -> ".join(["antenna"] + [element_label(e) for e in chain.elements] + ["radio"])
 
 
-def standard_alternatives(design, f, z_feed) -> list[Alternative]:
+def standard_alternatives(design, f, z_feed, chain: FeedChain) -> list[Alternative]:
     """The design, without its series parts (only when it has some), with a
     matching unit at the radio and at the feedpoint (then one unbalanced run
     to the radio, see :func:`remote_chain`), then the design file's own
@@ -135,10 +135,11 @@ def standard_alternatives(design, f, z_feed) -> list[Alternative]:
         Frequency [Hz], ``(n,)``.
     z_feed : ndarray
         Antenna feedpoint impedance [ohm], ``(n,)``.
+    chain : FeedChain
+        The design's own feed chain.
     """
     z_ref, power = design.radio.impedance, design.radio.power
     spec = design.report.tuner
-    chain = build_chain(design.feed, r_radio=z_ref)
 
     def run(c: FeedChain) -> SystemResponse:
         return analyse(c, f, z_feed, z_ref=z_ref, power_w=power)
@@ -173,10 +174,10 @@ def standard_alternatives(design, f, z_feed) -> list[Alternative]:
     return out
 
 
-def optimised_alternative(best_design, f, z_feed_best) -> Alternative:
-    """The optimised design of a study, with its own feedpoint impedance."""
+def optimised_alternative(best_design, f, z_feed_best, chain: FeedChain) -> Alternative:
+    """The optimised design of a study (its own feed ``chain``), with its own
+    feedpoint impedance."""
     z_ref = best_design.radio.impedance
-    chain = build_chain(best_design.feed, r_radio=z_ref)
     system = analyse(chain, f, z_feed_best, z_ref=z_ref, power_w=best_design.radio.power)
     return Alternative("optimised", "the best design of the study", system,
                        chain=chain_text(chain))

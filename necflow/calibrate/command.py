@@ -102,7 +102,7 @@ def run_fit(args) -> int:
     from necflow.chain import load_design
     from necflow.config.resolve import resolved_yaml
     from necflow.measure import check_overlap, read_measurement
-    from necflow.measure.overlay import compare, overlay_figure
+    from necflow.calibrate.overlay import compare, overlay_figure
 
     design = load_design(args.design)
     if not 1 <= args.starts <= 1000:

@@ -8,6 +8,7 @@ import numpy as np
 
 from necflow.catalog.bands import Band
 from necflow.config.schema import Design
+from necflow.feed import FeedChain
 
 
 @dataclass(frozen=True)
@@ -48,6 +49,8 @@ class Evaluation:
         Modelling-rule findings for the model.
     cautions : list of str
         One-line cautions (high voltage, ratings exceeded).
+    feed : FeedChain
+        The feed chain's two-ports (the design's ``feed``).
     """
 
     design: Design
@@ -58,6 +61,7 @@ class Evaluation:
     system: object
     findings: list = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
+    feed: FeedChain | None = None
 
     def band_summaries(self) -> list[BandSummary]:
         """Lowest SWR and where, SWR at the edges and mean loss, per band."""

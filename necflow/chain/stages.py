@@ -12,6 +12,8 @@
       .system                              Z at the radio, SWR, power flow, stress
       .evaluation                          all of the above as one Evaluation
       .far_field(f, angles)                patterns (only when asked)
+    report_data(chain)                     what the decision report shows
+                                           (:mod:`necflow.chain.report`)
       .variant(values)                     a new chain for changed fields, sharing
                                            the stages the change leaves alone
 
@@ -170,7 +172,7 @@ class Chain:
         return Evaluation(design=self.design, bands=self.bands,
                           frequency_hz=self.frequency_hz, band_index=self.band_index,
                           model=self.wire_model, system=self.system,
-                          findings=self.findings, cautions=self.cautions)
+                          findings=self.findings, cautions=self.cautions, feed=self.feed)
 
     # -- far field ---------------------------------------------------------
 

@@ -2,7 +2,7 @@
 model-versus-measurement comparison.
 
 ``read_measurement(path, at=...)`` opens a sweep; ``compare(...)`` in
-:mod:`necflow.measure.overlay` puts model and measurement side by side.
+(:mod:`necflow.calibrate.overlay` puts model and measurement side by side.)
 """
 
 from necflow.measure.files import check_overlap, read_measurement

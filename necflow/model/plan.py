@@ -37,7 +37,7 @@ halving uniform segments of 0.49, 0.25, 0.12, 0.06 and 0.03 m adds 330, 193,
 115, 71 and 47 fF, the same at 7.3 and 29.7 MHz.  At 2.5 kohm and 30 MHz
 100 fF is 5 % of the impedance.  Short segments at the source remove most
 of it for a few extra segments; the convergence check
-(:mod:`necflow.analysis.convergence`) reports what is left.  Why gently
+(:mod:`necflow.chain.convergence`) reports what is left.  Why gently
 (``growth`` 0.1): a faster growth (0.2 to 0.4) moved the impedance of a
 half-wave dipole 2.7 to 3.4 % away from a converged model (uniform segments of a
 few millimetres), against 1.6 % at 0.1 and 1.2 % for uniform segments of

@@ -17,7 +17,13 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from necflow import fileio
+from necflow.chain import Chain, report_data
+from necflow.config.fields import apply
+from necflow.engine.response import ResponseCache
 from necflow.errors import NecflowError
+from necflow.optimize.cost import score
+from necflow.optimize.robust import robust_plan, robust_score
+from necflow.report import run_folder
 from necflow.optimize.storage import redact_url
 
 LEADERBOARD_ROWS = 25
@@ -112,17 +118,14 @@ def best_yaml(design, study, trial, storage_shown: str, objective=None) -> str:
     return head + resolved_yaml(design)
 
 
-def objective_as_written(design, variant, evaluation, solver=None) -> tuple:
+def objective_as_written(design, variant, evaluation, responses=None) -> tuple:
     """The study's objectives of ``variant`` (robust ones over the study's
     cases when ``cost.robust`` is set)."""
-    from necflow.optimize.cost import score
-    from necflow.engine.response import ResponseCache
-    from necflow.optimize.robust import robust_plan, robust_score
-
     plan = robust_plan(design)
     if plan is None:
         return score(evaluation, design.cost).values
-    return robust_score(variant, plan, ResponseCache(solver)).values
+    return robust_score(variant, plan, ResponseCache(responses)
+                        if not isinstance(responses, ResponseCache) else responses).values
 
 
 def band_table_text(evaluation, title: str) -> str:
@@ -136,30 +139,26 @@ def band_table_text(evaluation, title: str) -> str:
     return buf.getvalue()
 
 
-def write_evaluation(evaluation, folder: Path, *, config_path: str, started) -> None:
-    """The evaluate outputs of one design into ``folder`` (report included)."""
-    from necflow.report import run_folder
-
+def write_evaluation(chain: Chain, folder: Path, *, config_path: str, started) -> None:
+    """The evaluate outputs of one design's chain into ``folder`` (report
+    included; the report stage runs here, the writer only writes)."""
+    doc = report_data(chain, study_dir=folder.parent)
     run_folder.write_run_folder(
-        evaluation, folder, config_path=config_path, started=started,
-        argv=[redact_url(a) for a in ["necflow", *sys.argv[1:]]], study_dir=folder.parent)
+        chain.evaluation, doc, folder, config_path=config_path, started=started,
+        argv=[redact_url(a) for a in ["necflow", *sys.argv[1:]]])
 
 
 def write_outputs(study, design, space, out: Path, *, storage_shown: str,
                   solver=None) -> StudyOutputs:
     """Write best.yaml, leaderboard.csv, best-bands.txt and best/ for a study."""
-    from necflow.config.fields import apply
-    from necflow.chain import evaluate
-    from necflow.report import run_folder
-
     started = run_folder.now_utc()
     out.mkdir(parents=True, exist_ok=True)
     trial = best_trial(study)
     values = {p.path: p.buildable(trial.params[p.path]) for p in space.params
               if p.path in trial.params}
-    variant = apply(design, values)
-    evaluation = evaluate(variant, solver=solver)
-    objective = objective_as_written(design, variant, evaluation, solver)
+    chain = Chain(apply(design, values), solver)
+    variant, evaluation = chain.design, chain.evaluation
+    objective = objective_as_written(design, variant, evaluation, chain.responses)
     best_path = out / "best.yaml"
     fileio.write_text(best_path, best_yaml(variant, study, trial, storage_shown, objective))
     fileio.write_text(out / "leaderboard.csv",
@@ -167,5 +166,5 @@ def write_outputs(study, design, space, out: Path, *, storage_shown: str,
     fileio.write_text(out / "best-bands.txt",
                       band_table_text(evaluation, f"best of study '{study.study_name}' (trial "
                                       f"{trial.number}, as written)"))
-    write_evaluation(evaluation, out / "best", config_path=str(best_path), started=started)
+    write_evaluation(chain, out / "best", config_path=str(best_path), started=started)
     return StudyOutputs(trial, variant, evaluation, out, values, tuple(objective))

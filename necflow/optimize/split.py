@@ -32,7 +32,10 @@ from typing import Any, Callable
 
 import numpy as np
 
+from necflow.chain import Chain
 from necflow.errors import ConfigError
+from necflow.optimize.cost import score
+from necflow.optimize.inner import FeedSearch
 
 
 @dataclass
@@ -135,21 +138,12 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
     ConfigError
         When the cost has more than one objective, or no candidate is valid.
     """
-    from necflow.catalog.bands import resolve_bands
-    from necflow.model import build_model
-    from necflow.optimize.cost import score
-    from necflow.optimize.inner import FeedSearch
-    from necflow.model import check_variant
-    from necflow.config.fields import apply
-    from necflow.chain import band_points, evaluate
-
     if list(design.cost.objectives) != ["cost"]:
         raise ConfigError("the split search minimises the single objective 'cost'",
                           field="cost.objectives")
     say = on_stage or (lambda text: None)
-    bands = resolve_bands(design)
-    f, band_index = band_points(bands)
-    f_max = float(f.max())
+    base = Chain(design, cache)
+    bands, f, band_index = base.bands, base.frequency_hz, base.band_index
     geo = [p for p in space.params if p.geometry]
     try:
         feed = FeedSearch(design, [p for p in space.params if not p.geometry], f,
@@ -159,12 +153,11 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
     cands, models = [], []
     for g in geometry_candidates(geo, max_geometries, seed):
         try:
-            v = apply(design, g)
-            check_variant(v)
+            model = base.variant(g).wire_model
         except Exception:   # an impossible corner of the space is skipped, not fatal
             continue
         cands.append(g)
-        models.append(build_model(v, f_max))
+        models.append(model)
     if not cands:
         raise ConfigError("no candidate geometry of the search space is valid", field="search")
     screening = screen and models[0].ground.kind == "sommerfeld" and len(cands) > top_k
@@ -198,8 +191,7 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
             best = ({**cands[k], **r.values}, r.cost)
     say("confirming the best design with a full solve")
     values = best[0]
-    variant = apply(design, values)
-    evaluation = evaluate(variant, solver=cache)
+    evaluation = base.variant(values).evaluation
     cost = score(evaluation, design.cost).cost
     err = max((abs(e - s) / abs(e) for _, s, e in confirmations), default=0.0)
     return SplitResult(values=values, cost=cost, confirmed=True, evaluation=evaluation,

@@ -15,8 +15,12 @@ from datetime import datetime, timezone
 from importlib import metadata
 from pathlib import Path
 
-from necflow import fileio
-from necflow import __version__
+from necflow import __version__, fileio
+from necflow.config.resolve import config_sha256, resolved_yaml
+from necflow.errors import ConfigError
+from necflow.report import results
+from necflow.report.decision import write_report, write_report_inputs
+from necflow.report.plots import save_swr_png
 
 
 def versions() -> dict[str, str]:
@@ -63,24 +67,19 @@ def write_manifest(folder: Path, *, config_sha256: str, config_path: str,
     return doc
 
 
-def write_run_folder(evaluation, folder: Path, *, config_path: str, started: datetime,
-                     argv: list[str] | None = None, study_dir=None,
+def write_run_folder(evaluation, report_doc: dict, folder: Path, *, config_path: str,
+                     started: datetime, argv: list[str] | None = None,
                      extra_manifest: dict | None = None) -> dict:
     """Write every output of one evaluation into ``folder``.
 
     The one writer used by ``necflow evaluate`` and by studies for their best
     design: ``design.resolved.yaml``, ``results.json``/``.csv``, ``swr.png``,
-    the report inputs (``report_data.json``, far field included, and the
-    Touchstone files), ``manifest.json`` and ``report.html``.
+    the report inputs (``report_doc`` as ``report_data.json``, computed by
+    the chain's report stage, and the Touchstone files), ``manifest.json``
+    and ``report.html``.  Nothing here solves.
 
     Returns the ``results.json`` document.
     """
-    from necflow.config.resolve import config_sha256, resolved_yaml
-    from necflow.errors import ConfigError
-    from necflow.report import results
-    from necflow.report.decision import write_report, write_report_inputs
-    from necflow.report.plots import save_swr_png
-
     folder = Path(folder)
     try:
         folder.mkdir(parents=True, exist_ok=True)
@@ -93,7 +92,8 @@ def write_run_folder(evaluation, folder: Path, *, config_path: str, started: dat
     results.write_json(doc, folder / "results.json")
     fileio.write_text(folder / "results.csv", results.csv_text(doc))
     save_swr_png(evaluation, folder / "swr.png")
-    write_report_inputs(evaluation, folder, config_sha256=sha, study_dir=study_dir)
+    report_doc = {**report_doc, "config_sha256": sha}
+    write_report_inputs(evaluation, report_doc, folder)
     write_manifest(folder, config_sha256=sha, config_path=str(config_path), started=started,
                    finished=now_utc(), argv=argv, extra=extra_manifest)
     write_report(folder)

@@ -15,7 +15,7 @@ from necflow.calibrate.fit import SWR_ONLY_NOTE, fit_design
 from necflow.config.fields import build_params, set_values
 from necflow.calibrate.response import Responder
 from necflow.chain import load_design
-from necflow.measure.synthetic import synthetic_sweep
+from necflow.calibrate.synthetic import synthetic_sweep
 from necflow.measure.types import Measurement
 from necflow.config.sections import SearchParam
 

@@ -62,7 +62,7 @@ PRELOAD = (
     "necflow.optimize.command", "necflow.optimize.study", "necflow.optimize.space",
     "necflow.optimize.storage", "necflow.optimize.batch", "necflow.optimize.outputs",
     "necflow.calibrate.command", "necflow.calibrate.fit", "necflow.calibrate.trim",
-    "necflow.calibrate.tolerance", "necflow.measure", "necflow.measure.overlay",
+    "necflow.calibrate.tolerance", "necflow.measure", "necflow.calibrate.overlay",
 )
 
 #: Processes a case's process group may hold before it counts as a runaway

@@ -25,7 +25,8 @@ from necflow.engine.far_field import FarField
 from necflow.errors import NecflowWarning
 from necflow.chain import evaluate
 from necflow.report.html_report import write_report
-from necflow.report.report_data import build_report_data, write_report_data
+from necflow.chain.report import build_report_data
+from necflow.report.report_data import write_report_data
 from necflow.report.results import results_document, write_json
 from tests.conftest import CONFIGS, dipole_like_solver, design_of
 

@@ -13,7 +13,8 @@ from necflow.chain import load_design
 from necflow.engine.far_field import FarField
 from necflow.errors import NecflowWarning
 from necflow.chain import evaluate
-from necflow.report.report_data import build_report_data, read_report_data, write_report_data
+from necflow.chain.report import build_report_data
+from necflow.report.report_data import read_report_data, write_report_data
 from tests.conftest import CONFIGS, dipole_like_solver
 
 

@@ -99,7 +99,7 @@ def test_alternatives_keep_power_bookkeeping():
     # and the matching unit at the radio brings SWR to 1 where it can match.
     d = _design(tuner={"max_swr": 100}, alternatives=[{"name": "coax only", "tuner": "radio",
                                "feed": [{"id": "run", "line": "rg-213", "length": "30 m"}]}])
-    alts = standard_alternatives(d, F, Z_FEED)
+    alts = standard_alternatives(d, F, Z_FEED, build_chain(d.feed))
     assert [a.name for a in alts] == ["as designed", "without series parts",
                                       "matching unit at the radio",
                                       "matching unit at the feedpoint", "coax only"]
@@ -133,7 +133,7 @@ Z80 = np.array([45 - 120j, 62 - 15j, 85 + 95j])
 def test_remote_unit_drives_one_run_of_the_designs_coax():
     """A matching unit at the feedpoint replaces the balanced section and the
     balun: the unit, then the design's coax type over the total run."""
-    alts = {a.name: a for a in standard_alternatives(_doublet_80m(), F80, Z80)}
+    alts = {a.name: a for a in standard_alternatives(_doublet_80m(), F80, Z80, build_chain(_doublet_80m().feed))}
     remote = alts["matching unit at the feedpoint"]
     assert remote.system.element_ids == ("matching unit", "coax")
     assert remote.chain.startswith("antenna -> matching unit: lossy L-network")
@@ -145,7 +145,7 @@ def test_remote_unit_drives_one_run_of_the_designs_coax():
 
 def test_remote_unit_run_can_be_configured():
     d = _doublet_80m(remote_line="rg-213", remote_length="25 m")
-    remote = standard_alternatives(d, F80, Z80)[-1]
+    remote = standard_alternatives(d, F80, Z80, build_chain(d.feed))[-1]
     line = remote_chain(build_chain(d.feed), "rg-213", 25.0).elements[0]
     assert (line.line_type.name, line.length) == ("rg-213", 25.0)
     assert "rg-213 (unbalanced), 25 m" in remote.chain
@@ -160,7 +160,7 @@ def test_remote_unit_loses_less_than_the_design_on_80m():
     itself sends an SWR near 5 up the twin-lead and leaves a mismatch at the
     radio; the remote unit's total must be lower at every point."""
     d = _doublet_80m()
-    alts = {a.name: a for a in standard_alternatives(d, F80, Z80)}
+    alts = {a.name: a for a in standard_alternatives(d, F80, Z80, build_chain(d.feed))}
     remote, designed = alts["matching unit at the feedpoint"], alts["as designed"]
     # RG-8X, 1.0 dB / 100 ft at 10 MHz and 2.0 at 30 MHz (from memory of the
     # ARRL Handbook coax table, shared/references.md): solve the two-point

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from necflow.calibrate.response import Responder, gammas
+from necflow.config.fields import set_values
 from necflow.measure.types import Measurement, swr_from_mag
 
 
@@ -20,8 +22,6 @@ def synthetic_sweep(design, changes: dict, frequency_hz, *, at: str = "radio",
     ``noise`` is the standard deviation of complex Gaussian noise added to
     the reflection coefficient (each part), seeded.
     """
-    from necflow.config.fields import set_values
-    from necflow.calibrate.response import Responder, gammas
 
     f = np.asarray(frequency_hz, dtype=float)
     built = set_values(design, changes) if changes else design

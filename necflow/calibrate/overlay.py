@@ -12,6 +12,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from necflow.calibrate.response import Responder, gammas
+from necflow.calibrate.trim import swr_minimum
+from necflow.catalog.bands import resolve_bands
 from necflow.measure.types import Measurement, swr_from_mag
 
 
@@ -41,9 +44,6 @@ def compare(design, measurements: list[Measurement], responder=None):
         ``rows`` a list of :class:`BandComparison`; ``model_mags`` the model
         |Gamma| at each sweep's frequencies (for plots).
     """
-    from necflow.calibrate.response import Responder, gammas
-    from necflow.calibrate.trim import swr_minimum
-    from necflow.catalog.bands import resolve_bands
 
     responder = responder or Responder(design, measurements)
     model = [np.abs(g) for g in gammas(responder, design, measurements)]

@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 from scipy.constants import speed_of_light
 
-from necflow.analysis.convergence import CAUTION_FRACTION, check_convergence
+from necflow.chain.convergence import CAUTION_FRACTION, check_convergence
 from necflow.chain import load_design
 from necflow.config.schema import Design
 from tests.conftest import CONFIGS

@@ -22,6 +22,8 @@ from typing import Callable
 
 import numpy as np
 
+from necflow.analysis.powerflow import analyse
+from necflow.chain.stages import Chain
 from necflow.config.schema import Design
 
 #: Refinement of the check model: segments doubled everywhere.
@@ -210,27 +212,17 @@ def check_convergence(design: Design, *, solver: Callable | None = None,
        guidelines; checking a model by changing its segmentation); from
        memory.
     """
-    from necflow.analysis.powerflow import analyse
-    from necflow.catalog.bands import resolve_bands
-    from necflow.feed.chain import build_chain
-    from necflow.model import build_model
-    from necflow.chain import band_points
-
-    if solver is None:
-        from necflow.engine import solve_feedpoint as solver
-    bands = resolve_bands(design)
-    f_all, _ = band_points(bands)
-    f_max = float(f_all.max())
-    model = build_model(design, f_max)
-    fine = build_model(design, f_max, density=refinement)
+    chain = Chain(design, solver)
+    fine = chain.refined(refinement)
+    model, fine_model = chain.wire_model, fine.wire_model   # both built (and sized) first
+    bands = chain.bands
     f_top = np.array([b.high_hz for b in bands], dtype=float)
-    z = np.asarray(solver(model, f_top), dtype=complex)
-    z_fine = np.asarray(solver(fine, f_top), dtype=complex)
-    chain = build_chain(design.feed, r_radio=design.radio.impedance)
-    swr = analyse(chain, f_top, z, z_ref=design.radio.impedance,
-                  power_w=design.radio.power).swr
-    swr_fine = analyse(chain, f_top, z_fine, z_ref=design.radio.impedance,
-                       power_w=design.radio.power).swr
+    z = chain.antenna_at(f_top)
+    z_fine = fine.antenna_at(f_top)
+    d = design
+    swr = analyse(chain.feed, f_top, z, z_ref=d.radio.impedance, power_w=d.radio.power).swr
+    swr_fine = analyse(chain.feed, f_top, z_fine, z_ref=d.radio.impedance,
+                       power_w=d.radio.power).swr
     dz = relative_change(z, z_fine)
     ds = relative_change(swr, swr_fine)
     rows = tuple(BandConvergence(
@@ -239,5 +231,5 @@ def check_convergence(design: Design, *, solver: Callable | None = None,
         swr_change=float(ds[i]),
         caution=bool(not (dz[i] <= threshold and ds[i] <= threshold)))
         for i, (b, f) in enumerate(zip(bands, f_top)))
-    return ConvergenceReport(rows, model.segment_count, fine.segment_count, float(refinement),
+    return ConvergenceReport(rows, model.segment_count, fine_model.segment_count, float(refinement),
                              float(threshold))

@@ -1,0 +1,259 @@
+"""The report-data stage: what the decision report shows, computed once.
+
+:func:`build_report_data` runs the far field (the engine), the
+alternatives, the stress table and the exposure estimate for an evaluation
+and returns a JSON-ready dict; the run folder keeps it as
+``report_data.json`` so that ``necflow report RUN_DIR`` renders
+``report.html`` without solving.  Angles in it are degrees and frequencies
+Hz (the file is read by people too); everything else SI.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import warnings
+from collections.abc import Callable
+from pathlib import Path
+
+import numpy as np
+
+from necflow import fileio
+from necflow.analysis.alternatives import (Alternative, optimised_alternative,
+                                           standard_alternatives, system_gain_dbi)
+from necflow.analysis.exposure import (compliance_distance_m, exposure_basis,
+                                      reflection_factor_for, uncontrolled_limit_w_m2)
+from necflow.analysis.stress_cautions import ratings_of
+from necflow.analysis.stress_table import stress_rows
+from necflow.chain.loading import load_design
+from necflow.chain.stages import Chain
+from necflow.engine.far_field import average_gain_test, far_field, normalised_efficiency
+from necflow.errors import NecflowError, NecflowWarning
+
+FORMAT_VERSION = 1
+FILE_NAME = "report_data.json"
+#: Average gain test: relative deviation beyond which the report warns
+#: (common practice: a sound model is within a few percent).
+AVERAGE_GAIN_TOLERANCE = 0.05
+EFFICIENCY_CONVENTION = (
+    "efficiency is radiated over input power, the integral of the power gain over the sky "
+    "divided by the same integral for the model's lossless copy (the average gain test), so "
+    "that the integration grid's own error (0.3-0.4 %) cancels; over a ground only the sky "
+    "wave counts as radiated")
+
+
+def band_centres(evaluation) -> tuple[np.ndarray, np.ndarray]:
+    """Centre frequency of each band [Hz] and the feedpoint impedance there,
+    interpolated along the band's evaluated points (exact when the centre
+    is one of them)."""
+    f_c, z_c = [], []
+    z = evaluation.system.z_feedpoint
+    for i, b in enumerate(evaluation.bands):
+        sel = evaluation.band_index == i
+        fc = 0.5 * (b.low_hz + b.high_hz)
+        fb = evaluation.frequency_hz[sel]
+        f_c.append(fc)
+        z_c.append(np.interp(fc, fb, z[sel].real) + 1j * np.interp(fc, fb, z[sel].imag))
+    return np.array(f_c), np.array(z_c)
+
+
+def far_field_frequencies(evaluation) -> tuple[np.ndarray, np.ndarray]:
+    """Frequencies of the far field and the band of each: centres, or edges
+    and centre when ``report.far_field`` is 'across'."""
+    f, idx = [], []
+    for i, b in enumerate(evaluation.bands):
+        c = 0.5 * (b.low_hz + b.high_hz)
+        pts = (b.low_hz, c, b.high_hz) if evaluation.design.report.far_field == "across" else (c,)
+        f += list(pts)
+        idx += [i] * len(pts)
+    return np.array(f), np.array(idx)
+
+
+def _far_field_records(evaluation, far_field_fn, agt_fn) -> list[dict]:
+    d = evaluation.design
+    angles = np.array([e.elevation for e in d.report.elevations])
+    f, idx = far_field_frequencies(evaluation)
+    ffs = far_field_fn(evaluation.model, f, angles=angles)
+    agt = np.asarray(agt_fn(evaluation.model, f), dtype=float)
+    expected = 2.0 if evaluation.model.ground.has_ground else 1.0
+    out = []
+    for ff, i, a in zip(ffs, idx, agt):
+        band = evaluation.bands[int(i)]
+        ok = abs(a / expected - 1.0) <= AVERAGE_GAIN_TOLERANCE
+        if not ok:
+            warnings.warn(f"average gain test at {ff.frequency_hz / 1e6:.4g} MHz gives "
+                          f"{a:.3f} (expected {expected:.1f}): the model's gains are doubtful; "
+                          "check the segmentation and the wire junctions", NecflowWarning,
+                          stacklevel=2)
+        out.append({
+            "band": band.name, "frequency_hz": ff.frequency_hz,
+            "centre": bool(np.isclose(ff.frequency_hz, 0.5 * (band.low_hz + band.high_hz))),
+            "efficiency": float(normalised_efficiency(ff.efficiency, a,
+                                                      evaluation.model.ground)),
+            "efficiency_integrated": ff.efficiency, "average_gain": float(a),
+            "average_gain_expected": expected, "average_gain_ok": ok,
+            "peak_gain_dbi": ff.peak_gain_dbi,
+            "peak_elevation_deg": math.degrees(ff.peak_elevation),
+            "lobe_azimuth_deg": math.degrees(ff.lobe_azimuth),
+            "broadside_azimuth_deg": math.degrees(ff.broadside_azimuth),
+            "takeoff_deg": math.degrees(ff.takeoff_elevation),
+            "gain_at_angles_dbi": ff.gain_at_angles_dbi,
+            "elevation_deg": np.degrees(ff.elevation), "elevation_gain_dbi": ff.elevation_gain_dbi,
+            "lobe_elevation_gain_dbi": ff.lobe_elevation_gain_dbi,
+            "azimuth_deg": np.degrees(ff.azimuth), "azimuth_gain_dbi": ff.azimuth_gain_dbi,
+        })
+    return out
+
+
+def _alternative_record(alt: Alternative, evaluation, n_points: int, gains: dict) -> dict:
+    s = alt.system
+    bands = []
+    for i, b in enumerate(evaluation.bands):
+        sel = np.flatnonzero(evaluation.band_index == i)
+        c = n_points + i                                  # the band's centre
+        loss = {k: float(v[c]) for k, v in s.loss_db.items()}
+        g = gains.get(b.name)
+        rec = {"band": b.name, "frequency_hz": float(s.f[c]), "swr_centre": float(s.swr[c]),
+               "swr_max": float(np.max(s.swr[sel])), "swr_min": float(np.min(s.swr[sel])),
+               "loss_db": loss, "loss_db_mean": float(np.mean(s.loss_db["total"][sel])),
+               "delivered_w": float(s.p_delivered_w[c]),
+               "system_gain_dbi": None if g is None else system_gain_dbi(g, loss["total"])}
+        if alt.tuner is not None:
+            t = alt.tuner
+            rec["tuner"] = {"can_match_all": bool(np.all(t.can_match[sel])),
+                            "can_match_centre": bool(t.can_match[c]),
+                            "loss_db": float(t.loss_db[c]), "topology": str(t.topology[c]),
+                            "inductance_h": float(t.inductance_h[c]),
+                            "capacitance_f": float(t.capacitance_f[c])}
+        bands.append(rec)
+    return {"name": alt.name, "description": alt.description, "chain": alt.chain,
+            "bands": bands,
+            "element_kinds": {k: v.kind for k, v in s.stress.items()},
+            "swr": s.swr[:n_points]}
+
+
+def _optimised(study_dir: Path, evaluation, f_all):
+    """The optimised alternative from a study folder, or None."""
+    best_yaml, best_results = study_dir / "best.yaml", study_dir / "best" / "results.json"
+    if not (best_yaml.is_file() and best_results.is_file()):
+        return None, None
+    best = load_design(best_yaml)
+    doc = json.loads(best_results.read_text(encoding="utf-8"))
+    z = np.empty(f_all.size, dtype=complex)
+    names = [b.name for b in evaluation.bands]
+    band_of = list(evaluation.band_index) + list(range(len(names)))
+    for k, (fk, bi) in enumerate(zip(f_all, band_of)):
+        pts = [p for p in doc["points"] if p["band"] == names[int(bi)]]
+        if not pts:
+            return None, None
+        fb = np.array([p["frequency_hz"] for p in pts])
+        zb = np.array([complex(*p["z_feedpoint_ohm"]) for p in pts])
+        order = np.argsort(fb)
+        z[k] = (np.interp(fk, fb[order], zb[order].real)
+                + 1j * np.interp(fk, fb[order], zb[order].imag))
+    return optimised_alternative(best, f_all, z, Chain(best).feed), best
+
+
+def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
+                      far_field_fn: Callable | None = None,
+                      agt_fn: Callable | None = None) -> dict:
+    """Everything the HTML report shows beyond ``results.json``.
+
+    Parameters
+    ----------
+    evaluation : Evaluation
+    config_sha256 : str
+    study_dir : path, optional
+        A study's run folder (``best.yaml`` and ``best/results.json``): its
+        best design joins the alternatives as 'optimised'.
+    far_field_fn, agt_fn : callable, optional
+        ``far_field(model, f, angles=)`` and ``average_gain_test(model, f)``;
+        default to the engine's.  Tests pass stand-ins.
+    """
+    if far_field_fn is None or agt_fn is None:
+        far_field_fn = far_field_fn or far_field
+        agt_fn = agt_fn or average_gain_test
+    d = evaluation.design
+    ff = _far_field_records(evaluation, far_field_fn, agt_fn)
+    gains = {r["band"]: np.asarray(r["gain_at_angles_dbi"]) for r in ff if r["centre"]}
+    peak = {r["band"]: r["peak_gain_dbi"] for r in ff if r["centre"]}
+    f_c, z_c = band_centres(evaluation)
+    n = evaluation.frequency_hz.size
+    f_all = np.concatenate([evaluation.frequency_hz, f_c])
+    z_all = np.concatenate([evaluation.system.z_feedpoint, z_c])
+    alts = standard_alternatives(d, f_all, z_all, evaluation.feed)
+    records = [_alternative_record(a, evaluation, n, gains) for a in alts]
+    _with_system_gain(ff, alts[0].system, f_all)
+    optimised_from = None
+    if study_dir is not None:
+        try:
+            opt, best = _optimised(Path(study_dir), evaluation, f_all)
+        except NecflowError as exc:
+            warnings.warn(f"the study's best design cannot be shown: {exc}", NecflowWarning,
+                          stacklevel=2)
+            opt, best = None, None
+        if opt is not None:
+            same = (Chain(best, top_frequency_hz=float(f_all.max())).wire_model.key()
+                    == evaluation.model.key())
+            records.append(_alternative_record(opt, evaluation, n, gains if same else {}))
+            optimised_from = str(study_dir)
+    ratings = ratings_of(d.feed)
+    design_sys = alts[0].system
+    worst = d.report.worst_case_power
+    stress_all = stress_rows(design_sys, ratings, worst, select=np.arange(f_all.size) < n)
+    stress_band = {b.name: stress_rows(design_sys, ratings, worst,
+                                       select=np.r_[evaluation.band_index == i,
+                                                    np.zeros(f_c.size, bool)])
+                   for i, b in enumerate(evaluation.bands)}
+    duty = d.report.exposure_duty
+    over_ground = evaluation.model.ground.has_ground
+    refl = reflection_factor_for(over_ground)
+    exposure = [{"band": b.name, "frequency_hz": float(f_c[i]),
+                 "limit_w_m2": float(uncontrolled_limit_w_m2(f_c[i])),
+                 "gain_dbi": peak.get(b.name), "reflection_factor": refl,
+                 "distance_m": float(compliance_distance_m(d.radio.power * duty, peak[b.name],
+                                                           f_c[i], reflection_factor=refl)),
+                 "distance_worst_m": float(compliance_distance_m(
+                     worst * duty, peak[b.name], f_c[i], reflection_factor=refl))}
+                for i, b in enumerate(evaluation.bands) if b.name in peak]
+    doc = {
+        "format_version": FORMAT_VERSION, "design": d.name, "config_sha256": config_sha256,
+        "radio_power_w": d.radio.power, "worst_case_power_w": worst,
+        "z_ref_ohm": d.radio.impedance, "swr_limit": d.goal.swr_limit,
+        "exposure_duty": duty, "ground": d.ground.model,
+        "elevations": [{"label": e.label, "elevation_deg": math.degrees(e.elevation)}
+                       for e in d.report.elevations],
+        "far_field": ff, "alternatives": records, "optimised_from": optimised_from,
+        "stress": [r.__dict__ for r in stress_all],
+        "stress_by_band": {k: [r.__dict__ for r in v] for k, v in stress_band.items()},
+        "exposure": exposure, "exposure_basis": exposure_basis(over_ground),
+        "efficiency_convention": EFFICIENCY_CONVENTION,
+    }
+    return fileio.json_ready(doc)
+
+
+def _index_of(f_all: np.ndarray, f_hz: float) -> int:
+    """Index of ``f_hz`` among the comparison's frequencies (band edges are
+    evaluated points, centres are appended): the far field is never paired
+    with a loss interpolated from elsewhere."""
+    k = np.flatnonzero(np.isclose(f_all, f_hz, rtol=1e-12, atol=0.0))
+    if k.size == 0:
+        raise NecflowError(f"no feed-system result at {f_hz / 1e6:.6g} MHz to pair with the "
+                           "far field there")
+    return int(k[0])
+
+
+def _with_system_gain(ff: list[dict], system, f_all: np.ndarray) -> None:
+    """Add to each far-field record the design's total feed loss at its
+    frequency [dB] and the system gain at the elevations of interest [dBi]."""
+    for r in ff:
+        loss = float(system.loss_db["total"][_index_of(f_all, r["frequency_hz"])])
+        r["total_loss_db"] = loss
+        r["system_gain_dbi"] = system_gain_dbi(np.asarray(r["gain_at_angles_dbi"], float), loss)
+
+
+def report_data(chain: Chain, *, config_sha256: str = "", study_dir=None) -> dict:
+    """The report stage of a chain: :func:`build_report_data` of its
+    evaluation (the engine runs the far field here; the report renders)."""
+    return build_report_data(chain.evaluation, config_sha256=config_sha256,
+                             study_dir=study_dir)
