@@ -1,11 +1,17 @@
-"""The ``fit``, ``trim`` and ``tolerance`` sub-commands: parse, call, print."""
+"""The ``fit``, ``trim`` and ``tolerance`` sub-commands: parse, call, print.
+
+The jobs themselves are :func:`necflow.calibrate.fit.fit_design`,
+:func:`necflow.calibrate.trim.trim_design` and
+:func:`necflow.calibrate.tolerance.monte_carlo`; they return results and
+never print.
+"""
 
 from __future__ import annotations
 
 import json
 from pathlib import Path
 
-from necflow import fileio, units
+from necflow.cli import OK
 from necflow.errors import ConfigError, GoalNotMet, NecflowError
 
 
@@ -15,7 +21,7 @@ MAX_SAMPLES = 100_000
 
 
 def add_parsers(sub) -> None:
-    """Add the three sub-commands to the CLI's sub-parsers."""
+    """Add ``fit``, ``trim`` and ``tolerance`` to the command's sub-parsers."""
     f = sub.add_parser("fit", help="fit uncertain fields of a design to measured sweeps "
                        "and write the calibrated design")
     f.add_argument("design", help="design file (YAML)")
@@ -32,7 +38,7 @@ def add_parsers(sub) -> None:
     f.add_argument("--starts", type=int, default=4, metavar="N", help="starting points (default 4)")
     f.add_argument("--seed", type=int, default=0, metavar="N", help="seed of the starts")
     f.add_argument("--out", metavar="DIR", help="output folder (default runs/<name>-fit)")
-    f.set_defaults(func=run_fit)
+    f.set_defaults(func=cmd_fit)
 
     t = sub.add_parser("trim", help="advise cuts and part changes that put the lowest SWR "
                        "of selected bands at their targets")
@@ -44,7 +50,7 @@ def add_parsers(sub) -> None:
                    "'adjustable' section)")
     t.add_argument("--seed", type=int, default=0, metavar="N", help="seed of extra starts")
     t.add_argument("--write", metavar="FILE", help="write the trimmed design here")
-    t.set_defaults(func=run_trim)
+    t.set_defaults(func=cmd_trim)
 
     m = sub.add_parser("tolerance", help="Monte Carlo over the design's stated tolerances: "
                        "per-band yield and loss spread")
@@ -53,18 +59,18 @@ def add_parsers(sub) -> None:
     m.add_argument("--seed", type=int, metavar="N", help="seed (default tolerances.seed)")
     m.add_argument("--plot", metavar="PNG", help="write the SWR-spread plot here")
     m.add_argument("--json", action="store_true", help="print the band table as JSON")
-    m.set_defaults(func=run_tolerance)
+    m.set_defaults(func=cmd_tolerance)
 
 
 def _ranges(options: list[str], option: str) -> dict:
-    from necflow.calibrate.params import parse_range_option
+    from necflow.calibrate.params import parse_range_option  # lazy: start-up time
     return dict(parse_range_option(o, option) for o in options)
 
 
 def _checked_ranges(design, options: list[str], option: str) -> dict:
     """Ranges from the command line, checked against the design; errors name
     the option (the design file does not hold them)."""
-    from necflow.calibrate.params import build_params
+    from necflow.calibrate.params import build_params  # lazy: start-up time
 
     section = _ranges(options, option)
     try:
@@ -94,15 +100,16 @@ def _fmt(p, v) -> str:
     return p.text(v) if p.dimension else f"{v:.6g}"
 
 
-def run_fit(args) -> int:
-    from necflow.calibrate.fit import fit_design
-    from necflow.calibrate.params import build_params
-    from necflow.calibrate.response import Responder
-    from necflow.catalog.bands import resolve_bands
-    from necflow.config.load import load_design
-    from necflow.config.resolve import resolved_yaml
-    from necflow.measure import check_overlap, read_measurement
-    from necflow.measure.overlay import compare, overlay_figure
+def cmd_fit(args) -> int:
+    from necflow import fileio, units  # lazy: start-up time
+    from necflow.calibrate.fit import fit_design  # lazy: start-up time
+    from necflow.calibrate.params import build_params  # lazy: start-up time
+    from necflow.calibrate.response import Responder  # lazy: start-up time
+    from necflow.catalog.bands import resolve_bands  # lazy: start-up time
+    from necflow.config.load import load_design  # lazy: start-up time
+    from necflow.config.resolve import resolved_yaml  # lazy: start-up time
+    from necflow.measure import check_overlap, read_measurement  # lazy: start-up time
+    from necflow.measure.overlay import compare, overlay_figure  # lazy: start-up time
 
     design = load_design(args.design)
     if not 1 <= args.starts <= 1000:
@@ -158,7 +165,7 @@ def run_fit(args) -> int:
         print(f"note: {n}")
     print(f"calibrated design: {out / 'design.calibrated.yaml'}")
     print(f"overlay plot: {out / 'overlay.png'}")
-    return 0
+    return OK
 
 
 def _band_line(b) -> str:
@@ -167,12 +174,11 @@ def _band_line(b) -> str:
             f"{100 * b.fraction_within_limit:3.0f} %")
 
 
-def run_trim(args) -> int:
-    from necflow.calibrate.trim import trim_design
-    from necflow.config.load import load_design
-    from necflow.config.resolve import resolved_yaml
-
-    from necflow.calibrate.trim import resolve_targets
+def cmd_trim(args) -> int:
+    from necflow import fileio  # lazy: start-up time
+    from necflow.calibrate.trim import resolve_targets, trim_design  # lazy: start-up time
+    from necflow.config.load import load_design  # lazy: start-up time
+    from necflow.config.resolve import resolved_yaml  # lazy: start-up time
 
     design = load_design(args.design)
     _seed(args.seed)
@@ -221,12 +227,13 @@ def run_trim(args) -> int:
         raise GoalNotMet("no targeted band was reached ("
                          + ", ".join(t.band.name for t in r.targets) + "); see 'cannot reach' "
                          "above for why")
-    return 0
+    return OK
 
 
-def run_tolerance(args) -> int:
-    from necflow.calibrate.tolerance import monte_carlo, tolerance_figure
-    from necflow.config.load import load_design
+def cmd_tolerance(args) -> int:
+    from necflow import fileio  # lazy: start-up time
+    from necflow.calibrate.tolerance import monte_carlo, tolerance_figure  # lazy: start-up time
+    from necflow.config.load import load_design  # lazy: start-up time
 
     design = load_design(args.design)
     if args.samples is not None and not 1 <= args.samples <= MAX_SAMPLES:
@@ -255,4 +262,4 @@ def run_tolerance(args) -> int:
                            args.plot, dpi=110)
         if not args.json:
             print(f"plot: {args.plot}")
-    return 0
+    return OK
