@@ -19,7 +19,6 @@ import csv
 import io
 import itertools
 import json
-import os
 import re
 from concurrent.futures import ProcessPoolExecutor
 from multiprocessing import get_context
