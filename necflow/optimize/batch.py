@@ -4,8 +4,8 @@ A batch file names a base design, a matrix (each key a field path of the
 design, each value a list of alternatives) and a mode: ``evaluate`` each
 cell or ``optimize`` it.  Every cell is checked before any runs.  A cell
 that finished leaves ``cells/<id>/cell.json``; running the batch again
-skips it.  The summary is ``summary.csv``, a printed table and
-``summary.png``.
+skips it.  The summary is ``summary.csv`` and ``summary.png``; the command
+(:mod:`necflow.cli.batch`) prints it as a table.
 
 Override paths: ``antenna.height``, ``ground`` (a whole mapping),
 ``feed.<element id>.<key>``, ``search.<searched path>`` (e.g. the available
@@ -19,7 +19,6 @@ import csv
 import io
 import itertools
 import json
-import os
 import re
 from concurrent.futures import ProcessPoolExecutor
 from multiprocessing import get_context
@@ -280,30 +279,3 @@ def write_summary(spec: BatchSpec, summaries: list[dict], out: Path) -> None:
     ax2.set_xlabel("cell (see summary.csv)")
     fig.suptitle(f"batch {spec.name}: {spec.mode}")
     fileio.save_figure(fig, out / "summary.png", dpi=100)
-
-
-def run_batch_command(args, out, err) -> int:
-    """Glue of ``necflow batch``."""
-    from rich.console import Console
-    from rich.table import Table
-
-    from necflow.optimize.command import check_workers
-
-    check_workers(args.workers, getattr(args, "force_workers", False))
-    spec, summaries, skipped, folder = run_batch(
-        args.study, Path(args.out) if args.out else None, workers=args.workers,
-        storage=args.storage)
-    head, rows = summary_rows(spec, summaries)
-    n = len(spec.matrix) + 4  # cell, matrix keys, cost, worst SWR, loss (bands: summary.csv)
-    head, rows = head[:n], [r[:n] for r in rows]
-    rows = [[r[0][:3], *r[1:]] for r in rows]
-    t = Table(title=f"batch {spec.name} ({spec.mode}); {len(skipped)} cell(s) done before, "
-              "skipped", title_justify="left")
-    for h in head:
-        t.add_column(h, justify="left" if h == "cell" else "right")
-    for r in rows:
-        t.add_row(*map(str, r))
-    console = Console(file=out, width=120, highlight=False, color_system=None)
-    console.print(t)
-    console.print(f"batch folder: {folder} (summary.csv with every band, summary.png)")
-    return 0

@@ -333,7 +333,7 @@ def _child(design, space, options: StudyOptions, index: int, solver) -> None:
     try:
         worker_loop(design, space, options, solver=solver, deadline=deadline)
     except NecflowError:
-        raise SystemExit(2)
+        return  # a worker process stops quietly; nothing reads its exit status
 
 
 def run_study(design, space, options: StudyOptions, *, solver=None,

@@ -21,7 +21,7 @@ Per case the test asserts:
 * where the case says so, no ``results.json`` (nor a part of one) is left.
 
 The source of the expectations is the program's own contract (the exit
-statuses in ``necflow/cli.py``, the one-line ``FILE:LINE: field: message``
+statuses in ``necflow/cli/__init__.py``, the one-line ``FILE:LINE: field: message``
 form in ``necflow/errors.py``) and the issue that listed these inputs.
 
 Environment: ``HOSTILE_JOBS`` (children at once, default 2),

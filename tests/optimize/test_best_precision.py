@@ -46,7 +46,7 @@ def _cost_by_hand(results: dict, limit: float, w: float = 0.1) -> float:
 
 
 def test_best_yaml_is_buildable_and_its_reported_cost_is_its_own(tmp_path):
-    from necflow.optimize.command import run_optimize
+    from necflow.cli.optimize import run_optimize
 
     text = STUDY.replace("feed.cap.value: {range: [100 pF, 2 nF], scale: log}",
                          "feed.cap.value: {range: [100 pF, 2 nF], scale: log}\n"

@@ -69,7 +69,7 @@ def test_out_naming_a_file_is_an_input_error(tmp_path, capsys):
 
 
 def test_many_workers_pass_when_forced():
-    from necflow.optimize.command import check_workers
+    from necflow.cli.optimize import check_workers
 
     check_workers(4 * (os.cpu_count() or 1) + 1, force=True)   # no error
     check_workers(4 * (os.cpu_count() or 1))                    # the bound itself is allowed

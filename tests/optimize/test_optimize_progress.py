@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 
 from necflow.errors import ConfigError
-from necflow.optimize.progress import remaining_s
+from necflow.cli.progress import remaining_s
 from necflow.optimize.study import parse_duration
 
 

@@ -1,7 +1,7 @@
 """Progress of a study: a live line on a terminal, plain log lines otherwise.
 
-The reporter writes to the stream it is given (the command line passes
-stderr); the library itself never prints.
+The reporter writes to the stream it is given (``necflow optimize`` passes
+stderr); the study runner calls it after each trial and never prints.
 """
 
 from __future__ import annotations
@@ -9,6 +9,8 @@ from __future__ import annotations
 import time
 from datetime import timedelta
 from typing import TextIO
+
+from necflow.optimize.study import counted_trials
 
 
 def _hms(seconds: float | None) -> str:
@@ -44,22 +46,19 @@ class StudyProgress:
 
     def __init__(self, stream: TextIO, total: int | None, timeout_s: float | None,
                  live: bool = False):
-        from necflow.optimize.study import counted_trials
-
-        self._counted = counted_trials
         self.stream, self.total, self.timeout_s = stream, total, timeout_s
         self.t0 = time.time()
         self.done_here = 0
         self._live = None
         if live:
-            from rich.console import Console
-            from rich.live import Live
+            from rich.console import Console  # lazy: start-up time
+            from rich.live import Live  # lazy: start-up time
             self._live = Live("", console=Console(file=stream), refresh_per_second=4,
                               transient=False)
             self._live.start()
 
     def line(self, study) -> str:
-        counted = self._counted(study)
+        counted = counted_trials(study)
         done = len(counted)
         elapsed = time.time() - self.t0
         best = None

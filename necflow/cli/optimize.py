@@ -1,20 +1,35 @@
-"""Glue of ``necflow optimize``: arguments -> study -> outputs -> text.
+"""``necflow optimize``: arguments -> study -> outputs -> text.
 
-Called by :mod:`necflow.cli` with the streams to write to; raises
-:class:`necflow.errors.NecflowError` for everything a user can cause.
+The options are checked here and become a
+:class:`necflow.optimize.study.StudyOptions`; the steps of the run are in
+:mod:`necflow.optimize.run` and :func:`necflow.optimize.study.run_study`.
 """
 
 from __future__ import annotations
 
 import os
 import re
+import sys
 from pathlib import Path
 from typing import TextIO
 
+import optuna
+from rich.console import Console
+
+from necflow.chain import evaluate
+from necflow.cli.progress import StudyProgress
+from necflow.cli.status import INTERRUPTED, OK, TERMINATED
 from necflow.errors import ConfigError
+from necflow.limits import WORKERS_PER_CORE
+from necflow.optimize import run
+from necflow.optimize.outputs import band_table_text
+from necflow.optimize.robust import check_method
+from necflow.optimize.space import load_study_design
+from necflow.optimize.storage import check_storage_url, storage_password
+from necflow.optimize.study import StudyOptions, parse_duration, run_study
+from necflow.report import run_folder
 
 DEFAULT_TRIALS = 100
-WORKERS_PER_CORE = 4
 MAX_SEED = 2**32 - 1     # numpy's seed range, which the samplers use
 
 
@@ -24,9 +39,14 @@ def default_out(name: str) -> Path:
     return Path("runs") / f"{safe}-study"
 
 
-def options_from_args(args, design):
-    from necflow.optimize.study import StudyOptions, parse_duration
+def options_from_args(args, design) -> StudyOptions:
+    """The study options of the command line, checked.
 
+    Raises
+    ------
+    ConfigError
+        Naming the option at fault.
+    """
     if args.trials is not None and args.trials < 1:
         raise ConfigError(f"--trials must be at least 1, got {args.trials}", field="--trials")
     check_workers(args.workers, getattr(args, "force_workers", False))
@@ -45,7 +65,6 @@ def options_from_args(args, design):
         raise ConfigError("a password is only used with --storage (the journal file has "
                           "none)", field="--storage-password-env")
     if args.storage:
-        from necflow.optimize.storage import check_storage_url, storage_password
         check_storage_url(args.storage)
         storage_password(password_env)
     return StudyOptions(out=out, study_name=args.study or design.name, trials=trials,
@@ -72,58 +91,45 @@ def check_workers(workers: int, force: bool = False) -> None:
                           field="--workers")
 
 
-def start_trial(study):
-    """The queued starting design's trial, if it completed."""
-    from optuna.trial import TrialState
-
-    for t in study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,)):
-        if t.user_attrs.get("necflow.start"):
-            return t
-    return None
+def cmd_optimize(args) -> int:
+    return run_optimize(args, sys.stdout, sys.stderr)
 
 
 def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
-    import optuna
-    from rich.console import Console
+    """Run ``necflow optimize`` with its parsed arguments, writing the
+    summary to ``out`` and progress to ``err``; returns the exit status
+    (130 or 143 when a signal stopped the study, else 0)."""
 
-    from necflow.config.resolve import config_sha256
-    from necflow.optimize.outputs import band_table_text, write_outputs
-    from necflow.optimize.progress import StudyProgress
-    from necflow.optimize.space import load_study_design
-    from necflow.optimize.storage import describe, redact_url
-    from necflow.optimize.study import counted_trials, open_study, run_study
-    from necflow.chain import evaluate
-    from necflow.report import run_folder
+
+    def say(text: str) -> None:
+        print(f"necflow: {text}", file=err, flush=True)
 
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     started = run_folder.now_utc()
     design, space = load_study_design(args.design)
-    from necflow.optimize.robust import check_method
-    check_method(design, getattr(args, "method", "trials"))  # before any storage is opened
+    method = getattr(args, "method", "trials")
+    check_method(design, method)  # before any storage is opened
     opts = options_from_args(args, design)
-    shown = describe(opts.storage, opts.out)
-    opts.out.mkdir(parents=True, exist_ok=True)
+    study, shown = run.open_search(design, space, opts)  # storage and resume checks first
     why = "report only"
-    study = open_study(design, space, opts)  # storage and resume checks before any trial
     if not args.report_only:
-        print(f"necflow: study '{opts.study_name}' in {shown}: {len(space.params)} "
-              f"parameter(s), {opts.workers} worker(s)", file=err, flush=True)
-        if getattr(args, "method", "trials") == "split":
-            from necflow.optimize.split_command import run_split
-            why = run_split(design, space, opts, study, err, solver=solver)
+        say(f"study '{opts.study_name}' in {shown}: {len(space.params)} "
+            f"parameter(s), {opts.workers} worker(s)")
+        if method == "split":
+            split = run.run_split(design, space, opts, study, solver=solver, on_stage=say)
+            _print_split(split, say)
+            why = split.stopped
         else:
             progress = StudyProgress(err, opts.trials, opts.timeout_s, live=err.isatty())
             try:
                 study, why = run_study(design, space, opts, solver=solver, on_trial=progress)
             finally:
                 progress.close()
-    counted = counted_trials(study)
-    states = [t.state.name for t in study.get_trials(deepcopy=False)]
-    result = write_outputs(study, design, space, opts.out, storage_shown=shown, solver=solver)
-    first = start_trial(study)
+    outcome = run.finish_search(study, design, space, opts, shown, solver=solver)
+    result, first = outcome.outputs, outcome.start
     console = Console(file=out, width=120, highlight=False, color_system=None)
-    console.print(f"study '{opts.study_name}': {len(counted)} trial(s) counted "
-                  f"({states.count('COMPLETE')} complete, {states.count('FAIL')} failed); "
+    console.print(f"study '{opts.study_name}': {outcome.counted} trial(s) counted "
+                  f"({outcome.complete} complete, {outcome.failed} failed); "
                   f"stopped: {why}")
     if first is not None:
         console.print(f"starting design: objective "
@@ -141,16 +147,20 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
                               f"'{opts.study_name}' (trial {result.best_trial.number})"))
     console.print(f"best design: {opts.out / 'best.yaml'}; leaderboard: "
                   f"{opts.out / 'leaderboard.csv'}; run folder: {opts.out}")
-    run_folder.write_manifest(
-        opts.out, config_sha256=config_sha256(Path(args.design)), config_path=str(args.design),
-        started=started, finished=run_folder.now_utc(),
-        argv=[redact_url(a) for a in ["necflow", *_argv()]],
-        extra={"study": opts.study_name, "storage": shown, "stopped": why,
-               "trials_counted": len(counted), "best_trial": result.best_trial.number,
-               "best_values": list(result.best_trial.values)})
-    return {"stopped by SIGINT": 130, "stopped by SIGTERM": 143}.get(why, 0)
+    run.write_search_manifest(args.design, opts, shown, outcome, stopped=why,
+                              started=started, argv=["necflow", *sys.argv[1:]])
+    return {"stopped by SIGINT": INTERRUPTED, "stopped by SIGTERM": TERMINATED}.get(why, OK)
 
 
-def _argv() -> list[str]:
-    import sys
-    return sys.argv[1:]
+def _print_split(split, say) -> None:
+    res = split.result
+    screened = len(res.screened)
+    if res.confirmations:
+        say(f"split search: {screened} geometries screened over the reflection-coefficient "
+            f"ground, {len(res.confirmations)} confirmed over the design's own ground "
+            f"(screening error of the cost up to {100 * res.screen_cost_error:.1f} %); "
+            f"{res.variants} feed variants scored; {split.solves} frequency points solved")
+    else:
+        say(f"split search: {screened} geometries solved over the design's own ground; "
+            f"{res.variants} feed variants scored; {split.solves} frequency points solved")
+    say(f"best design confirmed with a full solve of every frequency: cost {split.cost:.4g}")

@@ -1,4 +1,10 @@
-"""The ``fit``, ``trim`` and ``tolerance`` sub-commands: parse, call, print."""
+"""The ``fit``, ``trim`` and ``tolerance`` sub-commands: parse, call, print.
+
+The jobs themselves are :func:`necflow.calibrate.fit.fit_design`,
+:func:`necflow.calibrate.trim.trim_design` and
+:func:`necflow.calibrate.tolerance.monte_carlo`; they return results and
+never print.
+"""
 
 from __future__ import annotations
 
@@ -6,65 +12,31 @@ import json
 from pathlib import Path
 
 from necflow import fileio, units
+from necflow.calibrate.fit import fit_design
+from necflow.calibrate.overlay import compare, overlay_figure
+from necflow.calibrate.response import Responder
+from necflow.calibrate.tolerance import monte_carlo, tolerance_figure
+from necflow.calibrate.trim import resolve_targets, trim_design
+from necflow.catalog.bands import resolve_bands
+from necflow.chain import load_design
+from necflow.cli.status import OK
+from necflow.config.fields import build_params, parse_range_option
+from necflow.config.resolve import resolved_yaml
 from necflow.errors import ConfigError, GoalNotMet, NecflowError
-
+from necflow.measure import check_overlap, read_measurement
 
 #: Most tolerance cases in one run (each case is a feed-chain evaluation over
 #: every point; 100,000 cases of 100 points take minutes and hundreds of MB).
 MAX_SAMPLES = 100_000
 
 
-def add_parsers(sub) -> None:
-    """Add the three sub-commands to the CLI's sub-parsers."""
-    f = sub.add_parser("fit", help="fit uncertain fields of a design to measured sweeps "
-                       "and write the calibrated design")
-    f.add_argument("design", help="design file (YAML)")
-    f.add_argument("measured", nargs="+", help="sweeps: Touchstone one-port (.s1p) or CSV")
-    f.add_argument("--at", choices=("radio", "feedpoint"), default="radio",
-                   help="where the sweeps were taken (default radio: through the feed chain)")
-    f.add_argument("--vary", action="append", default=[], metavar="PATH=LOW,HIGH",
-                   help="a field to fit and its range, e.g. 'antenna.height=9 m,13 m' "
-                   "(adds to or replaces the design's 'uncertain' section)")
-    f.add_argument("--frequency-unit", metavar="UNIT", help="Hz, kHz, MHz or GHz for CSV "
-                   "files whose header names none")
-    f.add_argument("--reference", metavar="OHMS", help="reference resistance of CSV sweeps "
-                   "(default: the radio's impedance)")
-    f.add_argument("--starts", type=int, default=4, metavar="N", help="starting points (default 4)")
-    f.add_argument("--seed", type=int, default=0, metavar="N", help="seed of the starts")
-    f.add_argument("--out", metavar="DIR", help="output folder (default runs/<name>-fit)")
-    f.set_defaults(func=run_fit)
-
-    t = sub.add_parser("trim", help="advise cuts and part changes that put the lowest SWR "
-                       "of selected bands at their targets")
-    t.add_argument("design", help="design file (YAML), e.g. a calibrated one")
-    t.add_argument("--target", action="append", default=[], metavar="BAND=FREQ|centre",
-                   help="e.g. '40m=7.1 MHz' or '80m=centre' (adds to the design's 'targets')")
-    t.add_argument("--adjust", action="append", default=[], metavar="PATH=LOW,HIGH",
-                   help="a field trim may change and its range (replaces the design's "
-                   "'adjustable' section)")
-    t.add_argument("--seed", type=int, default=0, metavar="N", help="seed of extra starts")
-    t.add_argument("--write", metavar="FILE", help="write the trimmed design here")
-    t.set_defaults(func=run_trim)
-
-    m = sub.add_parser("tolerance", help="Monte Carlo over the design's stated tolerances: "
-                       "per-band yield and loss spread")
-    m.add_argument("design", help="design file (YAML) with a 'tolerances' section")
-    m.add_argument("--samples", type=int, metavar="N", help="cases (default tolerances.samples)")
-    m.add_argument("--seed", type=int, metavar="N", help="seed (default tolerances.seed)")
-    m.add_argument("--plot", metavar="PNG", help="write the SWR-spread plot here")
-    m.add_argument("--json", action="store_true", help="print the band table as JSON")
-    m.set_defaults(func=run_tolerance)
-
-
 def _ranges(options: list[str], option: str) -> dict:
-    from necflow.config.fields import parse_range_option
     return dict(parse_range_option(o, option) for o in options)
 
 
 def _checked_ranges(design, options: list[str], option: str) -> dict:
     """Ranges from the command line, checked against the design; errors name
     the option (the design file does not hold them)."""
-    from necflow.config.fields import build_params
 
     section = _ranges(options, option)
     try:
@@ -94,15 +66,7 @@ def _fmt(p, v) -> str:
     return p.text(v) if p.dimension else f"{v:.6g}"
 
 
-def run_fit(args) -> int:
-    from necflow.calibrate.fit import fit_design
-    from necflow.config.fields import build_params
-    from necflow.calibrate.response import Responder
-    from necflow.catalog.bands import resolve_bands
-    from necflow.chain import load_design
-    from necflow.config.resolve import resolved_yaml
-    from necflow.measure import check_overlap, read_measurement
-    from necflow.calibrate.overlay import compare, overlay_figure
+def cmd_fit(args) -> int:
 
     design = load_design(args.design)
     if not 1 <= args.starts <= 1000:
@@ -158,7 +122,7 @@ def run_fit(args) -> int:
         print(f"note: {n}")
     print(f"calibrated design: {out / 'design.calibrated.yaml'}")
     print(f"overlay plot: {out / 'overlay.png'}")
-    return 0
+    return OK
 
 
 def _band_line(b) -> str:
@@ -167,12 +131,7 @@ def _band_line(b) -> str:
             f"{100 * b.fraction_within_limit:3.0f} %")
 
 
-def run_trim(args) -> int:
-    from necflow.calibrate.trim import trim_design
-    from necflow.chain import load_design
-    from necflow.config.resolve import resolved_yaml
-
-    from necflow.calibrate.trim import resolve_targets
+def cmd_trim(args) -> int:
 
     design = load_design(args.design)
     _seed(args.seed)
@@ -221,12 +180,10 @@ def run_trim(args) -> int:
         raise GoalNotMet("no targeted band was reached ("
                          + ", ".join(t.band.name for t in r.targets) + "); see 'cannot reach' "
                          "above for why")
-    return 0
+    return OK
 
 
-def run_tolerance(args) -> int:
-    from necflow.calibrate.tolerance import monte_carlo, tolerance_figure
-    from necflow.chain import load_design
+def cmd_tolerance(args) -> int:
 
     design = load_design(args.design)
     if args.samples is not None and not 1 <= args.samples <= MAX_SAMPLES:
@@ -255,4 +212,4 @@ def run_tolerance(args) -> int:
                            args.plot, dpi=110)
         if not args.json:
             print(f"plot: {args.plot}")
-    return 0
+    return OK

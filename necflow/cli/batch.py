@@ -1,0 +1,43 @@
+"""``necflow batch``: a matrix of variants of a design, evaluated or optimised."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+from typing import TextIO
+
+from rich.console import Console
+from rich.table import Table
+
+from necflow.cli.optimize import check_workers
+from necflow.cli.status import OK
+from necflow.optimize.batch import run_batch, summary_rows
+
+
+def cmd_batch(args) -> int:
+    return run_batch_command(args, sys.stdout)
+
+
+def run_batch_command(args, out: TextIO) -> int:
+    """Run ``necflow batch`` with its parsed arguments; prints the summary
+    table to ``out``."""
+
+
+    check_workers(args.workers, getattr(args, "force_workers", False))
+    spec, summaries, skipped, folder = run_batch(
+        args.study, Path(args.out) if args.out else None, workers=args.workers,
+        storage=args.storage)
+    head, rows = summary_rows(spec, summaries)
+    n = len(spec.matrix) + 4  # cell, matrix keys, cost, worst SWR, loss (bands: summary.csv)
+    head, rows = head[:n], [r[:n] for r in rows]
+    rows = [[r[0][:3], *r[1:]] for r in rows]
+    t = Table(title=f"batch {spec.name} ({spec.mode}); {len(skipped)} cell(s) done before, "
+              "skipped", title_justify="left")
+    for h in head:
+        t.add_column(h, justify="left" if h == "cell" else "right")
+    for r in rows:
+        t.add_row(*map(str, r))
+    console = Console(file=out, width=120, highlight=False, color_system=None)
+    console.print(t)
+    console.print(f"batch folder: {folder} (summary.csv with every band, summary.png)")
+    return OK

@@ -1,0 +1,131 @@
+"""``necflow check`` and ``necflow evaluate``: one design, its rules and its solve."""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+
+from rich.console import Console
+
+from necflow.chain import Chain, load_design, report_data
+from necflow.chain.convergence import check_convergence
+from necflow.cli.status import NOT_MET, OK
+from necflow.errors import ConfigError, RulesBroken
+from necflow.model import summarize
+from necflow.report import run_folder
+from necflow.report.results import write_json
+from necflow.report.tables import band_table
+
+SAFETY_LINE = ("caution: high RF voltages appear on series capacitors and open-wire line; "
+               "keep antennas clear of power lines, mind RF exposure and lightning, and "
+               "follow local codes and licensed practice.")
+
+
+def _finding_line(fd) -> str:
+    where = f" [{fd.wire}]" if getattr(fd, "wire", None) else ""
+    return f"{fd.severity}: {fd.rule}{where}: {fd.message}"
+
+
+def cmd_check(args) -> int:
+    design = load_design(args.design)
+    chain = Chain(design)
+    summary = summarize(chain.wire_model, design, chain.f_min, chain.f_max)
+    findings = chain.findings
+    print(f"{args.design}: design '{design.name}' is valid.")
+    for line in summary.format():
+        print(line)
+    if not findings:
+        print("Modelling rules: all satisfied.")
+    for fd in findings:
+        print(_finding_line(fd))
+    broken = any(fd.severity == "error" for fd in findings)
+    if not args.no_convergence:
+        if broken:
+            print("Convergence check skipped: the model breaks a modelling rule.")
+        else:
+            _print_convergence(design)
+    return _rule_status(findings, print)
+
+
+def _print_convergence(design) -> None:
+    try:
+        report = check_convergence(design)
+    except ConfigError as exc:
+        if exc.field != "model.max_segments":
+            raise
+        print(f"Convergence check skipped: {exc.message}")
+        return
+    for line in report.format():
+        print(line)
+    for c in report.cautions:
+        print(f"caution: {c}")
+
+
+def _rule_status(findings, say) -> int:
+    """Exit status of ``check``: 1 when the model breaks a modelling rule at
+    error level (``evaluate`` then refuses to solve it), else 0."""
+    errors = sum(1 for fd in findings if fd.severity == "error")
+    if errors:
+        say(f"the model breaks {errors} modelling rule{'s' if errors > 1 else ''} at error "
+            f"level: 'necflow evaluate' will not solve it (exit status {NOT_MET})")
+        return NOT_MET
+    return OK
+
+
+def cmd_evaluate(args) -> int:
+    started = run_folder.now_utc()
+    design = load_design(args.design)
+    if args.study is not None and not (Path(args.study) / "best.yaml").is_file():
+        raise ConfigError(f"'{args.study}' is not a study's run folder (it holds no best.yaml); "
+                          "expected the --out folder of 'necflow optimize'", field="--study")
+    chain = Chain(design)
+    try:
+        chain.require_sound_model()
+    except RulesBroken as exc:
+        for fd in exc.findings:
+            if fd.severity == "error":
+                print(_finding_line(fd))
+        raise
+    evaluation = chain.evaluation
+    out = Path(args.out) if args.out else run_folder.default_run_dir(design.name)
+    report_doc = report_data(chain, study_dir=args.study)
+    doc = run_folder.write_run_folder(evaluation, report_doc, out,
+                                      config_path=str(args.design), started=started,
+                                      argv=["necflow", *sys.argv[1:]])
+    convergence = None
+    if args.convergence:
+        try:
+            convergence = check_convergence(design)
+            doc["convergence"] = convergence.to_dict()
+        except ConfigError as exc:
+            if exc.field != "model.max_segments":
+                raise
+            doc["convergence"] = {"skipped": exc.message}
+        write_json(doc, out / "results.json")
+    if args.json:
+        json.dump(doc, sys.stdout, indent=1)
+        print()
+        return OK
+    console = Console(width=120, highlight=False)
+    for fd in evaluation.findings:
+        if fd.severity != "note":
+            console.print(f"{fd.severity}: {fd.rule}: {fd.message}")
+    console.print(band_table(evaluation.band_summaries(), design.goal.swr_limit,
+                             title=f"{design.name}: {len(evaluation.frequency_hz)} points, "
+                             f"{design.radio.power:g} W from a {design.radio.impedance:g} ohm "
+                             "radio"))
+    for c in evaluation.cautions:
+        console.print(f"caution: {c}")
+    if convergence is not None:
+        for line in convergence.format():
+            console.print(line, markup=False)
+        for c in convergence.cautions:
+            console.print(f"caution: {c}", markup=False)
+    elif "convergence" in doc:
+        console.print(f"convergence check skipped: {doc['convergence']['skipped']}",
+                      markup=False)
+    if evaluation.cautions:
+        console.print(SAFETY_LINE)
+    console.print(f"run folder: {out}")
+    return OK
