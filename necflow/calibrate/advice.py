@@ -9,6 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from necflow import units
+from necflow.config.fields import locate
 
 #: E12 preferred numbers (IEC 60063), one decade.
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)
@@ -36,7 +37,6 @@ def cm_in(metres: float) -> str:
 
 
 def _kind(design, path: str) -> str:
-    from necflow.config.fields import locate
     owner, name = locate(design, path)
     return getattr(owner, "kind", "") if name == "value" else ""
 

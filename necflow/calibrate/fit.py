@@ -19,13 +19,11 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.optimize import least_squares
 
+from necflow.calibrate.response import Responder, gammas
+from necflow.config.fields import Param, current_value, from_unit, set_values, to_unit, unit_scale
 from necflow.config.schema import Design
 from necflow.errors import ConfigError, ModelError
 from necflow.measure.types import Measurement
-from necflow.config.fields import Param
-from necflow.config.fields import (current_value, from_unit, set_values, to_unit,
-                                      unit_scale)
-from necflow.calibrate.response import Responder, gammas
 
 #: What a sweep of SWR (or return loss) alone cannot tell.
 SWR_ONLY_NOTE = (

@@ -10,7 +10,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import matplotlib
 import numpy as np
+from matplotlib.figure import Figure
 
 from necflow.calibrate.response import Responder, gammas
 from necflow.calibrate.trim import swr_minimum
@@ -65,9 +67,7 @@ def compare(design, measurements: list[Measurement], responder=None):
 def overlay_figure(measurements: list[Measurement], model_mags: list, *, title: str = "",
                    calibrated_mags: list | None = None):
     """SWR of each sweep against the model (and the calibrated model), one panel per sweep."""
-    import matplotlib
     matplotlib.use("Agg", force=False)
-    from matplotlib.figure import Figure
 
     n = len(measurements)
     fig = Figure(figsize=(5.0 * min(n, 2), 3.2 * int(np.ceil(n / 2))), layout="constrained")

@@ -16,7 +16,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import matplotlib
 import numpy as np
+from matplotlib.figure import Figure
 
 from necflow.calibrate.response import Responder
 from necflow.chain.cases import evaluate_cases
@@ -97,9 +99,7 @@ def monte_carlo(design: Design, *, samples: int | None = None, seed: int | None 
 
 def tolerance_figure(result: ToleranceResult, title: str = ""):
     """SWR spread per band (5-95 % of cases shaded, median, nominal, limit)."""
-    import matplotlib
     matplotlib.use("Agg", force=False)
-    from matplotlib.figure import Figure
 
     n = len(result.bands)
     cols = min(n, 3)

@@ -13,22 +13,30 @@ length changes are rounded to 5 mm.
 
 from __future__ import annotations
 
+import itertools
 from dataclasses import dataclass, field
 
 import numpy as np
 from scipy.optimize import least_squares
 
 from necflow import units
+from necflow.calibrate.advice import instruction, nearest_e12, step_order
+from necflow.calibrate.response import Responder
 from necflow.catalog.bands import Band, resolve_bands
+from necflow.catalog.lines import LINE_TYPES
+from necflow.config.fields import (
+    Param,
+    build_params,
+    current_value,
+    from_unit,
+    locate,
+    set_values,
+    to_unit,
+)
 from necflow.config.schema import Design, LineElement, PartElement
+from necflow.config.sections import SearchParam
 from necflow.errors import ConfigError, ModelError
 from necflow.measure.types import gamma_from_z
-from necflow.config.fields import Param, locate
-from necflow.config.sections import SearchParam
-from necflow.calibrate.advice import instruction, nearest_e12, step_order
-from necflow.config.fields import (build_params, current_value, from_unit, set_values,
-                                      to_unit)
-from necflow.calibrate.response import Responder
 
 TOLERANCE = 0.01       # a band counts as trimmed within 1 % of its target
 WINDOW_POINTS = 15
@@ -159,7 +167,6 @@ def suggested_adjustable(design: Design) -> dict[str, SearchParam]:
         if hasattr(a, name):
             v = getattr(a, name)
             out[f"antenna.{name}"] = SearchParam(range=(f"{0.9 * v!r} m", f"{1.1 * v!r} m"))
-    from necflow.catalog.lines import LINE_TYPES
     for el in design.feed:
         if isinstance(el, LineElement) and el.line in LINE_TYPES and LINE_TYPES[el.line].balanced:
             out[f"feed.{el.id}.length"] = SearchParam(
@@ -237,7 +244,6 @@ def _parts(design: Design, params: list[Param]) -> list[Param]:
 def _snap_parts(obj: _Objective, cont: list[Param], fixed: dict, values: dict, rng) -> dict:
     """Capacitors and inductors on E12 values, the rest refitted; of the two
     E12 values around each part (first three parts) the best set wins."""
-    import itertools
 
     parts = _parts(obj.design, cont)
     if not parts:

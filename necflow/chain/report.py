@@ -19,10 +19,18 @@ from pathlib import Path
 import numpy as np
 
 from necflow import fileio
-from necflow.analysis.alternatives import (Alternative, optimised_alternative,
-                                           standard_alternatives, system_gain_dbi)
-from necflow.analysis.exposure import (compliance_distance_m, exposure_basis,
-                                      reflection_factor_for, uncontrolled_limit_w_m2)
+from necflow.analysis.alternatives import (
+    Alternative,
+    optimised_alternative,
+    standard_alternatives,
+    system_gain_dbi,
+)
+from necflow.analysis.exposure import (
+    compliance_distance_m,
+    exposure_basis,
+    reflection_factor_for,
+    uncontrolled_limit_w_m2,
+)
 from necflow.analysis.stress_cautions import ratings_of
 from necflow.analysis.stress_table import stress_rows
 from necflow.chain.loading import load_design

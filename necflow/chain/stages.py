@@ -35,6 +35,7 @@ import numpy as np
 from necflow.analysis import analyse
 from necflow.analysis import cautions as find_cautions
 from necflow.catalog.bands import Band, resolve_bands
+from necflow.chain.evaluation import Evaluation
 from necflow.config.fields import GEOMETRY_ROOTS, apply
 from necflow.config.schema import Design
 from necflow.engine.far_field import FarField, average_gain_test, far_field
@@ -42,7 +43,6 @@ from necflow.engine.response import ResponseCache, Solver
 from necflow.errors import RulesBroken
 from necflow.feed import FeedChain, build_chain
 from necflow.model import WireModel, build_model, check_rules, check_variant
-from necflow.chain.evaluation import Evaluation
 
 
 def band_points(bands: list[Band]) -> tuple[np.ndarray, np.ndarray]:

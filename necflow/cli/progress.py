@@ -10,6 +10,9 @@ import time
 from datetime import timedelta
 from typing import TextIO
 
+from rich.console import Console
+from rich.live import Live
+
 from necflow.optimize.study import counted_trials
 
 
@@ -51,8 +54,6 @@ class StudyProgress:
         self.done_here = 0
         self._live = None
         if live:
-            from rich.console import Console  # lazy: start-up time
-            from rich.live import Live  # lazy: start-up time
             self._live = Live("", console=Console(file=stream), refresh_per_second=4,
                               transient=False)
             self._live.start()

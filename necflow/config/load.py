@@ -18,16 +18,23 @@ from typing import Any
 import yaml
 from pydantic import ValidationError
 
-from necflow.config.messages import (Lines, describe, did_you_mean, first_error,
-                                     parse_path, path_text, translate)
-from necflow.config.messages import is_model, union_tags  # noqa: F401  (re-exported)
 from necflow import limits
 from necflow.catalog.bands import TABLES, resolve_bands, unknown_band_message
 from necflow.catalog.grounds import SURFACES
 from necflow.catalog.lines import LINE_TYPES, resolve_line_type
+from necflow.config.messages import (  # noqa: F401  (re-exported)
+    Lines,
+    describe,
+    did_you_mean,
+    first_error,
+    is_model,
+    parse_path,
+    path_text,
+    translate,
+    union_tags,
+)
 from necflow.config.schema import Design
 from necflow.errors import ConfigError, ModelError
-
 
 # ----------------------------------------------------------------------------
 # YAML with line marks

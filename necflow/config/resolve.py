@@ -19,6 +19,7 @@ import yaml
 from pydantic import BaseModel
 
 from necflow import units
+from necflow.catalog.bands import resolve_bands
 from necflow.config.schema import PART_KINDS, Design, PartElement
 
 
@@ -95,7 +96,6 @@ def resolve_design(design: Design) -> Design:
     Bands named from the table get the ``low`` and ``high`` of the design's
     ITU region; everything else is unchanged.
     """
-    from necflow.catalog.bands import resolve_bands
 
     bands = [spec.model_copy(update={"low": band.low_hz, "high": band.high_hz})
              for spec, band in zip(design.bands, resolve_bands(design))]

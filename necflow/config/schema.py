@@ -18,13 +18,21 @@ import re
 from collections import Counter
 from typing import Annotated, Any, Literal, Union
 
-from pydantic import (BaseModel, BeforeValidator, ConfigDict, Discriminator,
-                      Field, StrictBool, Tag, ValidationInfo, field_validator,
-                      model_validator)
+from pydantic import (
+    BaseModel,
+    BeforeValidator,
+    ConfigDict,
+    Discriminator,
+    Field,
+    StrictBool,
+    Tag,
+    ValidationInfo,
+    field_validator,
+    model_validator,
+)
 
 from necflow import limits, units
-from necflow.config.sections import ToleranceSpec
-from necflow.config.sections import CostSpec, SearchParam
+from necflow.config.sections import CostSpec, SearchParam, ToleranceSpec
 
 # ----------------------------------------------------------------------------
 # Field helpers

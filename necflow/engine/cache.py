@@ -23,6 +23,8 @@ from pathlib import Path
 
 import numpy as np
 
+from necflow.engine import pynec_adapter
+
 #: File name of the store inside a run folder or a cache folder.
 FILE_NAME = "solves.sqlite"
 
@@ -41,7 +43,6 @@ CREATE TABLE IF NOT EXISTS solves (
 def current_engine_version() -> str:
     """The installed engine's version, looked up at call time (so a test can
     replace :func:`necflow.engine.pynec_adapter.engine_version`)."""
-    from necflow.engine import pynec_adapter
 
     return f"PyNEC {pynec_adapter.engine_version()}"
 

@@ -17,6 +17,8 @@ from typing import Callable, Sequence
 
 import numpy as np
 
+from necflow.engine import pynec_adapter
+
 Solver = Callable[..., np.ndarray]
 
 #: Points per engine call at most (a band of the built-in table has 11).
@@ -62,7 +64,6 @@ def frequency_blocks(frequency_hz, max_block: int = MAX_BLOCK) -> list[np.ndarra
 
 
 def _default_solver() -> Solver:
-    from necflow.engine import pynec_adapter
 
     return pynec_adapter.solve_feedpoint
 

@@ -25,7 +25,6 @@ from typing import Protocol, runtime_checkable
 import numpy as np
 
 
-
 @runtime_checkable
 class Solver(Protocol):
     """What a solver of wire models provides."""

@@ -19,6 +19,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from necflow.catalog.lines import LINE_TYPES
 from necflow.feed import metrics, power
 from necflow.feed.chain import FeedChain, LineSection
 
@@ -78,7 +79,6 @@ class FeedBatch:
         """Catalog line types by name, as an object array shaped like ``names``;
         the element's own type (which may carry the design's changes) for its
         own name."""
-        from necflow.catalog.lines import LINE_TYPES
 
         names = np.asarray(names)
         u, inv = np.unique(names.ravel(), return_inverse=True)

@@ -30,8 +30,14 @@ from pathlib import Path
 import numpy as np
 
 from necflow.errors import ConfigError
-from necflow.measure.types import (FREQ_UNITS, Measurement, check_frequencies, gamma_from_z,
-                                   mag_from_swr)
+from necflow.measure.types import (
+    FREQ_UNITS,
+    Measurement,
+    check_frequencies,
+    gamma_from_z,
+    mag_from_swr,
+    read_text,
+)
 
 _ROLES = {
     "frequency": {"frequency", "freq", "f"},
@@ -211,6 +217,5 @@ def parse_csv(text: str, *, file: str = "<string>", at: str = "radio",
 def read_csv(path: str | os.PathLike, *, at: str = "radio", frequency_unit: str | None = None,
              z_ref: float = 50.0) -> Measurement:
     """Read a CSV sweep (see :func:`parse_csv`)."""
-    from necflow.measure.files import read_text
     return parse_csv(read_text(Path(path)), file=os.fspath(path), at=at,
                      frequency_unit=frequency_unit, z_ref=z_ref)

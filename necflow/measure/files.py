@@ -8,29 +8,9 @@ from pathlib import Path
 import numpy as np
 
 from necflow.errors import ConfigError
+from necflow.measure.csvfile import read_csv
+from necflow.measure.touchstone import read_touchstone
 from necflow.measure.types import LOCATIONS, Measurement
-
-
-def read_text(path: Path) -> str:
-    """File text (UTF-8, BOM tolerated) or a one-line ConfigError."""
-    name = os.fspath(path)
-    if path.is_dir():
-        raise ConfigError("is a directory; expected a measurement file (.s1p or .csv)",
-                          file=name)
-    try:
-        raw = path.read_bytes()
-    except FileNotFoundError:
-        raise ConfigError("no such file; expected a measurement file (.s1p or .csv)",
-                          file=name) from None
-    except OSError as exc:
-        raise ConfigError(f"cannot read the file: {exc.strerror or exc}", file=name) from None
-    try:
-        return raw.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        try:
-            return raw.decode("latin-1")
-        except UnicodeDecodeError:  # pragma: no cover - latin-1 decodes any byte
-            raise ConfigError("not a text file", file=name) from None
 
 
 def read_measurement(path: str | os.PathLike, *, at: str = "radio",
@@ -51,9 +31,7 @@ def read_measurement(path: str | os.PathLike, *, at: str = "radio",
     if at not in LOCATIONS:
         raise ConfigError(f"'{at}' is not a place of measurement; expected radio or "
                           "feedpoint", field="--at")
-    from necflow.measure.csvfile import read_csv
-    from necflow.measure.touchstone import read_touchstone
-
+        
     p = Path(path)
     suffix = p.suffix.lower()
     if suffix == ".s1p" or suffix == ".ts":

@@ -22,7 +22,13 @@ from pathlib import Path
 import numpy as np
 
 from necflow.errors import ConfigError
-from necflow.measure.types import FREQ_UNITS, Measurement, check_frequencies, gamma_from_z
+from necflow.measure.types import (
+    FREQ_UNITS,
+    Measurement,
+    check_frequencies,
+    gamma_from_z,
+    read_text,
+)
 
 PARAMETERS = ("S", "Y", "Z")
 FORMATS = ("MA", "DB", "RI")
@@ -180,6 +186,5 @@ def _is_float(t: str) -> bool:
 
 def read_touchstone(path: str | os.PathLike, *, at: str = "radio") -> Measurement:
     """Read a Touchstone v1 one-port file (see :func:`parse_touchstone`)."""
-    from necflow.measure.files import read_text
     name = os.fspath(path)
     return parse_touchstone(read_text(Path(path)), file=name, at=at)

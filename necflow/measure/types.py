@@ -8,10 +8,13 @@ impedances in ohm.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import os
+from dataclasses import dataclass, replace
+from pathlib import Path
 
 import numpy as np
 
+from necflow import limits
 from necflow.errors import ConfigError
 
 LOCATIONS = ("radio", "feedpoint")
@@ -132,5 +135,35 @@ class Measurement:
 
     def with_location(self, at: str) -> "Measurement":
         """The same sweep, said to be taken at ``at``."""
-        from dataclasses import replace
         return replace(self, at=at)
+
+
+def read_text(path: Path) -> str:
+    """File text (UTF-8, BOM tolerated) or a one-line ConfigError."""
+    name = os.fspath(path)
+    if path.is_dir():
+        raise ConfigError("is a directory; expected a measurement file (.s1p or .csv)",
+                          file=name)
+    try:
+        size = path.stat().st_size
+        if size > limits.MAX_SWEEP_BYTES:
+            raise ConfigError(f"the file is {size / 1024 ** 2:.1f} MiB, more than the "
+                              f"{limits.MAX_SWEEP_BYTES // 1024 ** 2} MiB a measured sweep may "
+                              "have", file=name)
+        with path.open("rb") as fh:
+            raw = fh.read(limits.MAX_SWEEP_BYTES + 1)
+        if len(raw) > limits.MAX_SWEEP_BYTES:
+            raise ConfigError(f"the file is more than {limits.MAX_SWEEP_BYTES // 1024 ** 2} MiB, "
+                              "the most a measured sweep may have", file=name)
+    except FileNotFoundError:
+        raise ConfigError("no such file; expected a measurement file (.s1p or .csv)",
+                          file=name) from None
+    except OSError as exc:
+        raise ConfigError(f"cannot read the file: {exc.strerror or exc}", file=name) from None
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        try:
+            return raw.decode("latin-1")
+        except UnicodeDecodeError:  # pragma: no cover - latin-1 decodes any byte
+            raise ConfigError("not a text file", file=name) from None

@@ -25,12 +25,22 @@ from multiprocessing import get_context
 from pathlib import Path
 from typing import Any, Literal
 
+import matplotlib
+import optuna
 import yaml
+from matplotlib.figure import Figure
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_validator
 
 from necflow import fileio
+from necflow.chain import load_design_text
+from necflow.config.load import parse_yaml, read_design_text
+from necflow.engine.response import ResponseCache
 from necflow.errors import ConfigError
-
+from necflow.optimize.cost import score_design
+from necflow.optimize.outputs import write_outputs
+from necflow.optimize.space import build_space
+from necflow.optimize.storage import describe
+from necflow.optimize.study import StudyOptions, run_study
 
 #: Most cells in one batch (each is an evaluation or a whole study).
 MAX_CELLS = 10_000
@@ -105,8 +115,6 @@ def load_batch(path) -> tuple[BatchSpec, list[tuple[str, dict, str]]]:
     ConfigError
         For the batch file itself, or naming the first cell whose design is invalid.
     """
-    from necflow.config.load import parse_yaml, read_design_text
-    from necflow.chain import load_design_text
 
     name = str(path)
     text = read_design_text(path, "a batch file (YAML)")
@@ -147,7 +155,6 @@ def load_batch(path) -> tuple[BatchSpec, list[tuple[str, dict, str]]]:
         try:
             design = load_design_text(cell_text, file=f"{base_path} [cell {cid}]")
             if spec.mode == "optimize":
-                from necflow.optimize.space import build_space
                 if not design.search:
                     raise ConfigError("optimize mode needs a 'search' section in the base "
                                       "design or the matrix", field="search")
@@ -174,9 +181,6 @@ def _describe(over: dict) -> str:
 def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
              storage: str | None = None, solver=None) -> dict:
     """Evaluate or optimise one cell; writes ``cell.json`` last; returns its summary."""
-    from necflow.chain import load_design_text
-    from necflow.engine.response import ResponseCache
-    from necflow.optimize.cost import score_design
 
     folder.mkdir(parents=True, exist_ok=True)
     fileio.write_text(folder / "design.yaml", text)
@@ -185,12 +189,7 @@ def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
     if spec.mode == "evaluate":
         evaluation, sc = score_design(design, ResponseCache(solver))
     else:
-        import optuna
 
-        from necflow.optimize.outputs import write_outputs
-        from necflow.optimize.space import build_space
-        from necflow.optimize.storage import describe
-        from necflow.optimize.study import StudyOptions, run_study
 
         optuna.logging.set_verbosity(optuna.logging.WARNING)
         space = build_space(design)
@@ -265,9 +264,7 @@ def write_summary(spec: BatchSpec, summaries: list[dict], out: Path) -> None:
     w.writerow(head)
     w.writerows(rows)
     fileio.write_text(out / "summary.csv", buf.getvalue())
-    import matplotlib
     matplotlib.use("Agg", force=False)
-    from matplotlib.figure import Figure
 
     fig = Figure(figsize=(max(5.0, 0.6 * len(summaries) + 2), 5.0), layout="constrained")
     ax1, ax2 = fig.subplots(2, 1, sharex=True)

@@ -21,10 +21,17 @@ be re-checked when optuna is upgraded: ``study._storage``,
 
 from __future__ import annotations
 
+import datetime
 import os
 import socket
 import time
 import warnings
+
+import optuna
+from optuna.storages._rdb import models
+from optuna.trial import FrozenTrial, TrialState
+
+from necflow.optimize.storage import GRACE_S
 
 FAIL_REASON = "necflow.fail_reason"
 COUNTED = "necflow.counted"
@@ -34,7 +41,6 @@ PID = "necflow.pid"
 
 
 def _states():
-    from optuna.trial import TrialState
     return TrialState
 
 
@@ -59,7 +65,6 @@ def _without_heartbeat(storage, trial_ids: list[int]) -> set[int]:
     """Of these trials, those with no heartbeat record at all (RDB storage)."""
     if not trial_ids:
         return set()
-    from optuna.storages._rdb import models
 
     storage = getattr(storage, "_backend", storage)   # optuna wraps an RDB storage in a cache
     session = storage.scoped_session()   # as optuna's own reads: query, commit, close
@@ -80,7 +85,6 @@ def fail_orphans(study) -> int:
     grace period ago.  Journal storage (one machine): a trial whose process
     is gone, or that has no owner and started more than 30 s ago.
     """
-    import optuna
 
     S = _states()
     storage = study._storage
@@ -95,7 +99,6 @@ def fail_orphans(study) -> int:
     host, now = socket.gethostname(), time.time()
     running = study.get_trials(deepcopy=False, states=(S.RUNNING,))
     if beats:
-        from necflow.optimize.storage import GRACE_S
 
         old = [t._trial_id for t in running
                if t.datetime_start and now - t.datetime_start.timestamp() > GRACE_S]
@@ -125,10 +128,7 @@ def ask_owned(study, host: str, pid: int):
     very record that creates the trial, so a kill at any moment leaves no
     RUNNING trial without an owner to check (a queued trial is popped first
     and marked right after)."""
-    import datetime
 
-    import optuna
-    from optuna.trial import FrozenTrial
 
     S = _states()
     if study.get_trials(deepcopy=False, states=(S.WAITING,)):

@@ -17,7 +17,10 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
+from scipy.stats import qmc
 
+from necflow.feed import build_chain
+from necflow.feed.batch import FeedBatch
 from necflow.optimize.cost import score_arrays
 
 #: Variants per numpy call (bounds the working memory to some tens of MB).
@@ -83,8 +86,6 @@ class FeedSearch:
     """
 
     def __init__(self, design, params, f, band_index, bands):
-        from necflow.feed import build_chain
-        from necflow.feed.batch import FeedBatch
 
         self.design = design
         self.params = list(params)
@@ -137,7 +138,6 @@ class FeedSearch:
     def search(self, z_feedpoint, *, max_variants: int = 20000, rounds: int = 4,
                seed: int = 0) -> InnerResult:
         """Best feed values for one antenna response ``z_feedpoint`` [ohm]."""
-        from scipy.stats import qmc
 
         if not self.params:
             c = float(self.costs(z_feedpoint, {})[0])

@@ -16,15 +16,21 @@ import sys
 from dataclasses import dataclass
 from pathlib import Path
 
-from necflow import fileio
+from optuna.trial import TrialState
+from rich.console import Console
+
+from necflow import fileio, units
 from necflow.chain import Chain, report_data
 from necflow.config.fields import apply
+from necflow.config.resolve import resolved_yaml
 from necflow.engine.response import ResponseCache
 from necflow.errors import NecflowError
 from necflow.optimize.cost import score
 from necflow.optimize.robust import robust_plan, robust_score
-from necflow.report import run_folder
 from necflow.optimize.storage import redact_url
+from necflow.report import run_folder
+from necflow.report.tables import band_table
+from necflow.units import _DISPLAY
 
 LEADERBOARD_ROWS = 25
 
@@ -60,7 +66,6 @@ def best_trial(study):
 
 def ranked_trials(study, n: int = LEADERBOARD_ROWS) -> list:
     """Complete trials, best first (Pareto front first in multi-objective mode)."""
-    from optuna.trial import TrialState
 
     done = study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,))
     if len(study.directions) == 1:
@@ -81,14 +86,12 @@ def leaderboard_csv(study, space, objectives) -> str:
                     if key not in band_keys:
                         band_keys.append(key)
     head = ["rank", "trial"] + list(objectives)
-    from necflow.units import _DISPLAY
     for p in space.params:
         head.append(f"{p.path} [{_DISPLAY[p.dimension]}]" if p.dimension else p.path)
     head += ["cost", "worst_swr", "loss_db"] + band_keys
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(head)
-    from necflow import units
     for rank, t in enumerate(rows, 1):
         row = [rank, t.number] + [f"{v:.6g}" for v in t.values]
         for p in space.params:
@@ -108,7 +111,6 @@ def leaderboard_csv(study, space, objectives) -> str:
 def best_yaml(design, study, trial, storage_shown: str, objective=None) -> str:
     """The best design as resolved YAML, with comment lines naming its study
     and its objective as written (``objective``) beside the trial's."""
-    from necflow.config.resolve import resolved_yaml
 
     searched = ", ".join(f"{v:.6g}" for v in trial.values)
     written = ", ".join(f"{v:.6g}" for v in (objective or trial.values))
@@ -129,9 +131,7 @@ def objective_as_written(design, variant, evaluation, responses=None) -> tuple:
 
 
 def band_table_text(evaluation, title: str) -> str:
-    from rich.console import Console
 
-    from necflow.report.tables import band_table
 
     buf = io.StringIO()
     Console(file=buf, width=120, highlight=False, color_system=None).print(

@@ -10,9 +10,9 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from necflow.chain import load_design
 from necflow.config.fields import ParamSet, apply, build_params
 from necflow.config.load import parse_yaml
-from necflow.chain import load_design
 from necflow.config.schema import Design
 from necflow.errors import ConfigError, ModelError
 from necflow.model import check_variant

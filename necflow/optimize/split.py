@@ -31,11 +31,12 @@ from dataclasses import dataclass, field, replace
 from typing import Any, Callable
 
 import numpy as np
+from scipy.stats import qmc
 
 from necflow.chain import Chain
 from necflow.errors import ConfigError
 from necflow.optimize.cost import score
-from necflow.optimize.inner import FeedSearch
+from necflow.optimize.inner import FeedSearch, _grid, _item
 
 
 @dataclass
@@ -79,9 +80,7 @@ class SplitResult:
 
 def geometry_candidates(params, max_geometries: int = 64, seed: int = 0) -> list[dict]:
     """The geometries to try: the whole grid if small enough, else a Sobol sample."""
-    from scipy.stats import qmc
 
-    from necflow.optimize.inner import _grid, _item
 
     if not params:
         return [{}]

@@ -15,12 +15,19 @@ password) or an environment variable named with ``--storage-password-env``.
 from __future__ import annotations
 
 import contextlib
+import fcntl
 import hashlib
 import json
 import os
 import re
+import warnings
 from pathlib import Path
-from urllib.parse import quote
+from urllib.parse import quote, unquote
+
+import optuna
+import sqlalchemy
+from optuna.storages.journal import JournalFileBackend, JournalFileOpenLock
+from optuna.storages.journal._file import get_lock_file
 
 from necflow.errors import ConfigError, NecflowError
 
@@ -110,7 +117,6 @@ def check_storage_url(url: str) -> None:
 
 
 def _secrets(url: str, password: str | None) -> list[str]:
-    from urllib.parse import unquote
 
     part = _password_part(url)
     return [s for s in (part, unquote(part) if part else None, password) if s]
@@ -161,7 +167,6 @@ def _lock_key(text: str) -> int:
 def _pg_lock(engine, key: int):
     """Hold PostgreSQL's transaction advisory lock ``key`` (released at commit,
     rollback or a lost connection, so a killed holder never leaves it held)."""
-    import sqlalchemy
 
     with engine.connect() as conn, conn.begin():
         conn.execute(sqlalchemy.text("SELECT pg_advisory_xact_lock(:k)"), {"k": key})
@@ -171,7 +176,6 @@ def _pg_lock(engine, key: int):
 @contextlib.contextmanager
 def _file_lock(path: Path):
     """Hold an exclusive lock on ``path`` (released when the process ends)."""
-    import fcntl
 
     path.parent.mkdir(parents=True, exist_ok=True)
     with open(path, "a") as fh:
@@ -206,8 +210,6 @@ def study_lock(storage, study_name: str, out: Path):
 
 def _repair_journal(path: Path) -> None:
     """Cut a torn last record (no final newline) left by a killed writer."""
-    from optuna.storages.journal import JournalFileOpenLock
-    from optuna.storages.journal._file import get_lock_file
 
     if not path.exists() or path.stat().st_size == 0:
         return
@@ -251,10 +253,8 @@ def open_storage(storage_url: str | None, out: Path, password_env: str | None = 
     StorageError
         The database cannot be reached (the message masks the password).
     """
-    import optuna
 
     if not storage_url:
-        from optuna.storages.journal import JournalFileBackend, JournalFileOpenLock
 
         path = Path(out) / JOURNAL_NAME
         path.parent.mkdir(parents=True, exist_ok=True)
@@ -271,7 +271,6 @@ def open_storage(storage_url: str | None, out: Path, password_env: str | None = 
         if password is not None:
             connect["password"] = password
         kwargs = {"pool_pre_ping": True, "connect_args": connect}
-    import warnings
     try:
         with warnings.catch_warnings(), _schema_lock(url, kwargs, postgres):
             warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
@@ -297,7 +296,6 @@ def _schema_lock(url: str, engine_kwargs: dict, postgres: bool):
     if not postgres:
         yield
         return
-    import sqlalchemy
 
     engine = sqlalchemy.create_engine(url, connect_args=engine_kwargs.get("connect_args", {}),
                                       poolclass=sqlalchemy.pool.NullPool)

@@ -39,12 +39,26 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Callable
 
+import numpy as np
+import optuna
+from optuna.trial import TrialState
+
 from necflow.chain import Chain
+from necflow.config.fields import locate
+from necflow.engine.cache import SolveStore
+from necflow.engine.response import ResponseCache
 from necflow.errors import ConfigError, NecflowError
+from necflow.optimize.bookkeeping import (
+    COUNTED,
+    DISCARDED,
+    FAIL_REASON,
+    counted_trials,
+    fail_orphans,
+    take_slot,
+)
 from necflow.optimize.cost import score
-from necflow.optimize.robust import robust_score
-from necflow.optimize.bookkeeping import (COUNTED, DISCARDED, FAIL_REASON, counted_trials,
-                                          fail_orphans, take_slot)
+from necflow.optimize.robust import robust_plan, robust_score
+from necflow.optimize.storage import guard_resume, open_storage, study_lock
 
 __all__ = ["COUNTED", "DISCARDED", "FAIL_REASON", "Interrupted", "StudyOptions",
            "TrialFailure", "begin_session", "counted_trials", "enqueue_start", "fail_orphans",
@@ -104,7 +118,6 @@ class Interrupted(KeyboardInterrupt):
 
 def make_sampler(seed: int | None):
     """The sampler every worker uses, seeded with its own seed."""
-    import optuna
 
     return optuna.samplers.TPESampler(seed=seed, constant_liar=True, multivariate=True)
 
@@ -115,7 +128,6 @@ def worker_seeds(seed: int | None, session: int, workers: int) -> list[int | Non
     and every worker draws its own points, reproducibly."""
     if seed is None:
         return [None] * workers
-    import numpy as np
 
     return [int(np.random.SeedSequence([seed, session, i]).generate_state(1)[0])
             for i in range(workers)]
@@ -124,7 +136,6 @@ def worker_seeds(seed: int | None, session: int, workers: int) -> list[int | Non
 def lock_of(study, options: StudyOptions):
     """A fresh context manager holding the study lock (see
     :func:`necflow.optimize.storage.study_lock`)."""
-    from necflow.optimize.storage import study_lock
 
     return study_lock(study._storage, study.study_name, options.out)
 
@@ -135,10 +146,7 @@ def open_study(design, space, options: StudyOptions):
     The study is created or loaded under the study lock, so several
     processes and machines may do it at the same moment.
     """
-    import optuna
 
-    from necflow.optimize.robust import robust_plan
-    from necflow.optimize.storage import guard_resume, open_storage, study_lock
 
     robust_plan(design, space)  # a robust setting that cannot work fails before any trial
     storage = open_storage(options.storage, options.out, options.storage_password_env)
@@ -166,7 +174,6 @@ def begin_session(study) -> int:
 
 def enqueue_start(study, design, space) -> bool:
     """Queue the starting design as the first trial of a new study."""
-    from necflow.config.fields import locate
 
     if study.get_trials(deepcopy=False):
         return False
@@ -266,16 +273,12 @@ def _heartbeat(storage, trial_id: int, stop: threading.Event) -> None:
 def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None,
                 on_trial: Callable | None = None, deadline: float | None = None) -> str:
     """Run trials until the budget, the deadline or a signal; returns why it stopped."""
-    from optuna.trial import TrialState
 
-    from necflow.engine.response import ResponseCache
-    from necflow.optimize.robust import robust_plan
 
     study = study or open_study(design, space, options)
     robust = robust_plan(design, space)   # drawn once: the same cases for every trial
     store = None
     if options.cache:
-        from necflow.engine.cache import SolveStore
         store = SolveStore(options.out)
     cache = ResponseCache(solver, store=store)
     base = Chain(design, cache)
@@ -326,7 +329,6 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
 
 def _child(design, space, options: StudyOptions, index: int, solver) -> None:
     """Entry of a spawned worker process (``options.seed`` is its own seed)."""
-    import optuna
 
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     deadline = None if options.timeout_s is None else time.time() + options.timeout_s

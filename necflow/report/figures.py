@@ -5,15 +5,16 @@ from __future__ import annotations
 
 import io
 
+import matplotlib
 import numpy as np
+from matplotlib.figure import Figure
+from skrf.plotting import smith
 
 DPI = 80
 
 
 def _figure(w: float, h: float):
-    import matplotlib
     matplotlib.use("Agg", force=False)
-    from matplotlib.figure import Figure
     return Figure(figsize=(w, h), layout="constrained")
 
 
@@ -61,7 +62,6 @@ def swr_figure(results: dict, report: dict):
 def smith_figure(results: dict):
     """Impedance at the feedpoint and at the radio on Smith charts, one
     colour per band (scikit-rf's chart)."""
-    from skrf.plotting import smith
 
     z0 = float(results["radio"]["impedance_ohm"])
     fig = _figure(9.0, 4.6)
@@ -150,7 +150,6 @@ def pattern_figure(report: dict):
 def across_figure(band: str, records: list[dict], labels: list[str]):
     """Antenna gain (solid) and the design's system gain (dashed) at each
     elevation of interest against frequency across one band."""
-    import matplotlib
 
     recs = sorted(records, key=lambda r: r["frequency_hz"])
     f = np.array([r["frequency_hz"] for r in recs]) / 1e6

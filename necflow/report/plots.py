@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import matplotlib
 import numpy as np
+from matplotlib.figure import Figure
 
 from necflow import fileio
 
@@ -12,9 +14,7 @@ def swr_figure(evaluation):
 
     Returns a matplotlib Figure (not shown, not saved).
     """
-    import matplotlib
     matplotlib.use("Agg", force=False)
-    from matplotlib.figure import Figure
 
     bands = evaluation.bands
     n = len(bands)

@@ -9,13 +9,11 @@ from __future__ import annotations
 import csv
 import dataclasses
 import io
-import json
 from typing import Any
 
 import numpy as np
 
-from necflow import fileio
-from necflow import __version__
+from necflow import __version__, fileio
 
 POINT_KEYS = ("band", "frequency_hz", "z_feedpoint_ohm", "z_radio_ohm", "swr",
               "return_loss_db", "delivered_fraction", "loss_db", "stress")

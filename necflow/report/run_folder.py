@@ -7,7 +7,6 @@ line, times), ``results.json``, ``results.csv`` and ``swr.png``.
 
 from __future__ import annotations
 
-import json
 import platform
 import re
 import sys

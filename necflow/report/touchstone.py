@@ -5,8 +5,10 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from necflow import fileio
 import numpy as np
+import skrf
+
+from necflow import fileio
 
 #: File names in the run folder, by position.
 FILES = {"feedpoint": "feedpoint.s1p", "radio": "radio.s1p"}
@@ -23,7 +25,6 @@ def one_port(f, z, z_ref: float, name: str):
     ----------
     .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, eq. (2.35).
     """
-    import skrf
 
     f = np.asarray(f, dtype=float)
     z = np.asarray(z, dtype=complex)
