@@ -6,7 +6,7 @@ VENV   ?= .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.necflow-installed
 
-.PHONY: demo test bench check-configs docs clean
+.PHONY: demo test lint bench check-configs docs clean
 
 $(STAMP): pyproject.toml
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
@@ -24,6 +24,12 @@ demo: $(STAMP)
 
 test: $(STAMP)
 	$(PY) -m pytest -q
+
+# The structure and the style: import-linter's layer contract (pyproject.toml,
+# [tool.importlinter]) and ruff (pyproject.toml, [tool.ruff]).
+lint: $(STAMP)
+	$(VENV)/bin/lint-imports
+	$(VENV)/bin/ruff check .
 
 # Speed benchmark (not part of `make test`; about 10-15 minutes on 2 cores):
 # prints a table and writes bench.json.

@@ -75,8 +75,7 @@ class TimedSolver:
 def sweep_overhead(design_path: Path) -> dict:
     """Evaluate the demo design twice (the first run pays for imports and
     first-use set-up); the second's engine share is the figure."""
-    from necflow.chain import load_design
-    from necflow.chain import evaluate
+    from necflow.chain import evaluate, load_design
 
     runs = []
     for _ in range(2):
@@ -126,11 +125,11 @@ def plain_loop(design, space, target: float, budget_s: float, seed: int = 1) -> 
     """optuna TPE over every parameter; each trial solves all its frequencies."""
     import optuna
 
-    from necflow.optimize.cost import score
-    from necflow.model import check_variant
-    from necflow.config.fields import apply
-    from necflow.optimize.study import enqueue_start
     from necflow.chain import evaluate
+    from necflow.config.fields import apply
+    from necflow.model import check_variant
+    from necflow.optimize.cost import score
+    from necflow.optimize.study import enqueue_start
 
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     solver = TimedSolver()
@@ -162,10 +161,10 @@ def plain_loop(design, space, target: float, budget_s: float, seed: int = 1) -> 
 def solve_rate(design, workers: int) -> dict:
     """Engine points per second: one process, then ``workers`` processes."""
     from necflow.catalog.bands import resolve_bands
+    from necflow.chain import band_points
+    from necflow.config.fields import apply
     from necflow.engine.parallel import ParallelSolver
     from necflow.model import build_model
-    from necflow.config.fields import apply
-    from necflow.chain import band_points
 
     f, _ = band_points(resolve_bands(design))
     models = [build_model(apply(design, {"antenna.span": 27.0 + 0.25 * k}), f.max())
@@ -185,8 +184,8 @@ def solve_rate(design, workers: int) -> dict:
 def memory_growth(design, space, cache, n_total: int = 10_000, seed: int = 3) -> dict:
     """Resident memory after 100 and after ``n_total`` scored variants (full
     pipeline, antenna responses from the cache: the steady state of a study)."""
-    from necflow.optimize.cost import score_design
     from necflow.config.fields import apply
+    from necflow.optimize.cost import score_design
 
     rng = np.random.default_rng(seed)
     geo = [p for p in space.params if p.geometry]

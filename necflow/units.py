@@ -87,7 +87,8 @@ def parse(value: object, dimension: str) -> float:
     if isinstance(value, bool) or value is None:
         raise UnitError(f"expected {_a(dimension)} with a unit, e.g. '{example}'")
     if isinstance(value, (int, float)):
-        raise UnitError(f"'{value}' has no unit; expected {_a(dimension)} with a unit, e.g. '{example}'")
+        raise UnitError(f"'{value}' has no unit; expected {_a(dimension)} with a unit, "
+                        f"e.g. '{example}'")
     if not isinstance(value, str):
         raise UnitError(f"expected {_a(dimension)} with a unit as text, e.g. '{example}'")
     if len(value) > _MAX_TEXT:
@@ -95,7 +96,8 @@ def parse(value: object, dimension: str) -> float:
                         f"e.g. '{example}'")
     text = _normalise(value)
     if _NUMBER.match(text):
-        raise UnitError(f"'{value}' has no unit; expected {_a(dimension)} with a unit, e.g. '{example}'")
+        raise UnitError(f"'{value}' has no unit; expected {_a(dimension)} with a unit, "
+                        f"e.g. '{example}'")
     if not _QUANTITY.match(text):
         raise UnitError(f"cannot read '{value}' as {_a(dimension)}; expected a number and a "
                         f"unit, e.g. '{example}'")
@@ -103,9 +105,11 @@ def parse(value: object, dimension: str) -> float:
     try:
         q = ureg.Quantity(text)
     except Exception:  # pint raises several unrelated types for bad text
-        raise UnitError(f"cannot read '{value}' as {_a(dimension)}; expected e.g. '{example}'") from None
+        raise UnitError(f"cannot read '{value}' as {_a(dimension)}; "
+                        f"expected e.g. '{example}'") from None
     if not isinstance(q, ureg.Quantity):
-        raise UnitError(f"'{value}' has no unit; expected {_a(dimension)} with a unit, e.g. '{example}'")
+        raise UnitError(f"'{value}' has no unit; expected {_a(dimension)} with a unit, "
+                        f"e.g. '{example}'")
     if dimension == "angle":
         if not q.dimensionless or q.unitless:
             raise UnitError(f"'{value}' is not an angle; expected e.g. '{example}'")
@@ -115,7 +119,8 @@ def parse(value: object, dimension: str) -> float:
             out = float(q.to(si).magnitude)
         except pint.DimensionalityError:
             raise UnitError(
-                f"'{value}' is a {_describe(q)}, not {_a(dimension)}; expected e.g. '{example}'") from None
+                f"'{value}' is a {_describe(q)}, not {_a(dimension)}; "
+                f"expected e.g. '{example}'") from None
     if not math.isfinite(out):
         raise UnitError(f"'{value}' is not a finite number")
     return out
@@ -133,7 +138,7 @@ def _a(word: str) -> str:
 
 
 def _describe(q) -> str:
-    for name, (dim, si, _) in DIMENSIONS.items():
+    for name, (_, si, _) in DIMENSIONS.items():
         if name == "angle":
             continue
         try:

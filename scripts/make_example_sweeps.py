@@ -21,9 +21,9 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from necflow import fileio  # noqa: E402
+from necflow import fileio
+from necflow.calibrate.synthetic import csv_swr_text, synthetic_sweep, touchstone_text
 from necflow.chain import load_design
-from necflow.calibrate.synthetic import csv_swr_text, synthetic_sweep, touchstone_text  # noqa: E402
 
 FOLDER = ROOT / "configs" / "measured"
 DESIGN = FOLDER / "field-doublet.yaml"
@@ -46,7 +46,8 @@ def header(at: str, z_ref: float, seed: int, what: str) -> str:
     return (f"Synthetic sweep, not a measurement: necflow's model of\n"
             f"configs/measured/field-doublet.yaml with the changes below, seen {where}\n"
             f"against {z_ref:g} ohm, {what}, complex noise added to the reflection (seed "
-            f"{seed}),\nmade by scripts/make_example_sweeps.py.\n{truth}\nat: {at}\nnoise: {NOISE:g}")
+            f"{seed}),\nmade by scripts/make_example_sweeps.py.\n{truth}\nat: {at}\n"
+            f"noise: {NOISE:g}")
 
 
 def main() -> int:

@@ -9,8 +9,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from necflow.chain import load_design, load_design_text
-from necflow.chain import Chain, band_points, evaluate
+from necflow.chain import Chain, band_points, evaluate, load_design, load_design_text
 from necflow.config.schema import Design
 from necflow.report import results
 from tests.conftest import CONFIGS, dipole_like_solver

@@ -3,7 +3,8 @@
 :class:`Responder` turns a design variant into the reflection coefficient
 where a sweep was taken (at the feed point, or at the radio through the feed
 chain).  The antenna's response comes through the engine's response cache
-keyed by the wire model (each variant a :class:`necflow.chain.Chain`), so variants that change only the feed chain cost no
+keyed by the wire model (each variant a :class:`necflow.chain.Chain`), so
+variants that change only the feed chain cost no
 solve.  Every variant is segmented for the same top frequency, so a fitted
 geometry is compared with the same segmentation rules throughout.
 """

@@ -17,8 +17,8 @@ feed point is as sensitive to the real feed gap's and balun's capacitance.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 

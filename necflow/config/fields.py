@@ -473,6 +473,7 @@ def set_values(design: Design, values: dict[str, Any]) -> Design:
     return apply(design, values, keep_search=True)
 
 
-__all__ = ["to_unit", "from_unit", "unit_scale", "set_values", "Param", "ParamSet", "locate", "dimension_of", "field_limits", "check_limits",
+__all__ = ["to_unit", "from_unit", "unit_scale", "set_values", "Param", "ParamSet", "locate",
+           "dimension_of", "field_limits", "check_limits",
            "param", "ground_explicit", "build_params", "parse_range_option",
            "current_value", "apply", "GEOMETRY_ROOTS", "ROOTS"]

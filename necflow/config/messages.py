@@ -301,7 +301,7 @@ def _refine(msg: str, path: tuple, end: Any, data: Any) -> tuple[str, tuple]:
 def translate(exc: ValidationError, data: Any) -> list[tuple[str, tuple | None]]:
     """All errors of a validation, most useful first, one per path."""
     found: dict[tuple, tuple[int, str, list[str]]] = {}
-    for order, err in enumerate(exc.errors(include_url=False)):
+    for err in exc.errors(include_url=False):
         msg, path = _message(err, data)
         if path in found:  # members of a union failing on one value
             kinds = found[path][2]

@@ -39,7 +39,7 @@ def _unwrap(tp: Any) -> tuple[Any, Any]:
             tp = get_args(tp)[0]
         elif get_origin(tp) in (Union, UnionType) and type(None) in get_args(tp):
             rest = [a for a in get_args(tp) if a is not type(None)]
-            tp = rest[0] if len(rest) == 1 else Union[tuple(rest)]
+            tp = rest[0] if len(rest) == 1 else Union[tuple(rest)]  # noqa: UP007  (a union built at run time)
         else:
             return tp, disc
 

@@ -16,7 +16,7 @@ from __future__ import annotations
 import math
 import re
 from collections import Counter
-from typing import Annotated, Any, Literal, Union
+from typing import Annotated, Any, Literal
 
 from pydantic import (
     BaseModel,
@@ -146,7 +146,7 @@ class BandSpec(Strict):
     weight: float = Field(1.0, ge=0.0, le=1000.0, description="Weight of the band in scores")
 
     @model_validator(mode="after")
-    def _edges(self) -> "BandSpec":
+    def _edges(self) -> BandSpec:
         if (self.low is None) != (self.high is None):
             raise ValueError("give both 'low' and 'high', or neither (edges from the band table)")
         if self.low is not None:
@@ -232,14 +232,15 @@ class InvertedV(Strict):
     leg: Length = quantity("length", gt=0, le=1000.0,
                            description="Length of each leg along the wire")
     end_height: Length | None = quantity("length", default=None, ge=0, le=500.0,
-                                         description="Height of the leg ends (give this or 'droop')")
+                                         description="Height of the leg ends (give this or "
+                                         "'droop')")
     droop: Angle | None = quantity("angle", default=None, ge=0,
                                    description="Angle of each leg below horizontal "
                                    "(give this or 'end_height')")
     wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
 
     @model_validator(mode="after")
-    def _one_of(self) -> "InvertedV":
+    def _one_of(self) -> InvertedV:
         if (self.end_height is None) == (self.droop is None):
             raise ValueError("give exactly one of 'end_height' and 'droop'")
         if self.droop is not None and self.droop >= 1.5707963267948966:
@@ -249,7 +250,8 @@ class InvertedV(Strict):
 
 def _point(v: Any, info: ValidationInfo) -> tuple[float, float, float]:
     if not isinstance(v, (list, tuple)) or len(v) != 3:
-        raise ValueError("a point is a list of three lengths [x, y, z], e.g. ['0 m', '0 m', '10 m']")
+        raise ValueError("a point is a list of three lengths [x, y, z], "
+                         "e.g. ['0 m', '0 m', '10 m']")
     try:
         point = tuple(units.finite(float(c), "length") if _si_number(c, info)
                       else units.parse(c, "length") for c in v)
@@ -279,7 +281,7 @@ class WireItem(Strict):
                                        description="Diameter (default: the list's 'wire.diameter')")
 
     @model_validator(mode="after")
-    def _length(self) -> "WireItem":
+    def _length(self) -> WireItem:
         if sum((a - b) ** 2 for a, b in zip(self.start, self.end)) <= 1e-12:
             raise ValueError("wire has zero length: start and end are the same point")
         return self
@@ -304,7 +306,7 @@ class WireList(Strict):
     wire: WireSpec = Field(default_factory=WireSpec, description="Default conductor")
 
     @model_validator(mode="after")
-    def _feed_wire(self) -> "WireList":
+    def _feed_wire(self) -> WireList:
         names = [w.name for w in self.wires if w.name]
         dup = _duplicates(names)
         if dup:
@@ -327,7 +329,7 @@ class WireList(Strict):
         return [w.name for w in self.wires].index(ref)
 
 
-Antenna = Annotated[Union[Doublet, OffCentre, InvertedV, WireList],
+Antenna = Annotated[Doublet | OffCentre | InvertedV | WireList,
                     Field(discriminator="shape")]
 
 # ----------------------------------------------------------------------------
@@ -352,7 +354,7 @@ class Ground(Strict):
                                                  description="Soil conductivity")
 
     @model_validator(mode="after")
-    def _constants(self) -> "Ground":
+    def _constants(self) -> Ground:
         finite = self.model in ("reflection", "sommerfeld")
         given = (self.permittivity is not None, self.conductivity is not None)
         if not finite:
@@ -387,7 +389,7 @@ class LossPoint(Strict):
                            description="Length the loss figure refers to")
 
     @model_validator(mode="after")
-    def _plausible(self) -> "LossPoint":
+    def _plausible(self) -> LossPoint:
         if self.db / self.per > MAX_LINE_DB_PER_M:
             raise ValueError(f"db: {self.db:g} dB over {units.format_quantity(self.per, 'length')}"
                              f" is {self.db / self.per:.3g} dB/m, more than the "
@@ -409,7 +411,8 @@ class LineElement(Strict):
     velocity_factor: float | None = Field(None, gt=0, le=1,
                                           description="Velocity factor (custom lines; overrides "
                                           "the catalog)")
-    loss: list[LossPoint] | None = Field(None, max_length=50, description="Matched loss at one or more "
+    loss: list[LossPoint] | None = Field(None, max_length=50,
+                                         description="Matched loss at one or more "
                                          "frequencies (custom lines; overrides the catalog)")
     balanced: StrictBool | None = Field(None, description="Whether the line is balanced (two-wire) "
                                   "rather than coax (default: the catalog type's; false for "
@@ -418,7 +421,7 @@ class LineElement(Strict):
                                               description="Peak voltage rating, for stress margins")
 
     @model_validator(mode="after")
-    def _custom(self) -> "LineElement":
+    def _custom(self) -> LineElement:
         if self.line == "custom":
             missing = [k for k in ("impedance", "velocity_factor", "loss")
                        if getattr(self, k) is None]
@@ -472,7 +475,7 @@ class PartElement(Strict):
         return data
 
     @model_validator(mode="after")
-    def _placement(self) -> "PartElement":
+    def _placement(self) -> PartElement:
         if (self.series is None) == (self.shunt is None):
             raise ValueError("give exactly one of 'series' and 'shunt'")
         if self.value <= 0:
@@ -572,9 +575,9 @@ def _element_tag(v: Any) -> str | None:
     return "part"
 
 
-Element = Annotated[Union[Annotated[LineElement, Tag("line")],
-                          Annotated[PartElement, Tag("part")],
-                          Annotated[TransformerElement, Tag("transformer")]],
+Element = Annotated[Annotated[LineElement, Tag("line")]
+                    | Annotated[PartElement, Tag("part")]
+                    | Annotated[TransformerElement, Tag("transformer")],
                     Discriminator(_element_tag, custom_error_type="element_kind",
                                   custom_error_message="an element needs one of 'line', "
                                   "'series', 'shunt' or 'transformer'")]
@@ -632,7 +635,7 @@ class ElevationOfInterest(Strict):
                                 "most 90 deg")
 
 
-def _default_angles() -> list["ElevationOfInterest"]:
+def _default_angles() -> list[ElevationOfInterest]:
     return [ElevationOfInterest(label="long distance", elevation="10 deg"),
             ElevationOfInterest(label="medium range", elevation="30 deg"),
             ElevationOfInterest(label="short range", elevation="70 deg")]
@@ -665,7 +668,7 @@ class AlternativeSpec(Strict):
         "none", description="Add the matching unit at the radio or at the feedpoint")
 
     @model_validator(mode="after")
-    def _unique_ids(self) -> "AlternativeSpec":
+    def _unique_ids(self) -> AlternativeSpec:
         dup = _duplicates(e.id for e in self.feed)
         if dup:
             raise ValueError(f"duplicate element id(s) in feed: {', '.join(dup)}")
@@ -696,7 +699,7 @@ class ReportSpec(Strict):
                                                 "alternative feed systems to compare")
 
     @model_validator(mode="after")
-    def _names(self) -> "ReportSpec":
+    def _names(self) -> ReportSpec:
         dup = _duplicates(a.name for a in self.alternatives)
         if dup:
             raise ValueError(f"alternative name(s) listed twice: {', '.join(dup)}")
@@ -714,7 +717,8 @@ class Design(Strict):
     region: Literal[1, 2, 3] = Field(2, description="ITU region of the built-in band table")
     bands: list[BandEntry] = Field(..., min_length=1, max_length=limits.MAX_BANDS,
                                    description="Bands to evaluate: names "
-                                   "from the band table, or entries with name/low/high/points/weight")
+                                   "from the band table, or entries with "
+                                   "name/low/high/points/weight")
     antenna: Antenna = Field(..., description="The radiator")
     ground: Ground = Field(..., description="The ground")
     feed: list[Element] = Field(..., max_length=limits.MAX_FEED_ELEMENTS,
@@ -747,7 +751,7 @@ class Design(Strict):
                                "report shows")
 
     @model_validator(mode="after")
-    def _unique_ids(self) -> "Design":
+    def _unique_ids(self) -> Design:
         dup = _duplicates(e.id for e in self.feed)
         if dup:
             raise ValueError(f"duplicate element id(s) in feed: {', '.join(dup)}")

@@ -47,7 +47,7 @@ class SearchParam(_Strict):
         return data
 
     @model_validator(mode="after")
-    def _one_kind(self) -> "SearchParam":
+    def _one_kind(self) -> SearchParam:
         if (self.range is None) == (self.choices is None):
             raise ValueError("give either 'range' or 'choices'")
         if self.choices is not None and (self.step is not None or self.scale != "linear"):

@@ -34,6 +34,8 @@ AZIMUTH_STEP_DEG = 2.0
 #: Below this the take-off angle of a pattern peaking overhead is replaced by
 #: the lowest elevation of interest for the azimuth cut [rad].
 TAKEOFF_MAX = math.radians(80.0)
+#: Default elevation of interest [rad].
+_TEN_DEGREES = math.radians(10.0)
 #: Floor of gains in dB (the engine reports -999 dB for a null).
 GAIN_FLOOR_DBI = -99.0
 
@@ -172,7 +174,7 @@ def _rp(ctx, key, f_hz, n_theta, n_phi, theta0, phi0, dtheta, dphi):
         raise _adapter._fail(key, "compute a radiation pattern", exc, f_hz) from exc
 
 
-def far_field(model: WireModel, frequency_hz, *, angles=(math.radians(10),),
+def far_field(model: WireModel, frequency_hz, *, angles=(_TEN_DEGREES,),
               average_step_deg: float = AVERAGE_STEP_DEG,
               elevation_step_deg: float = ELEVATION_STEP_DEG,
               azimuth_step_deg: float = AZIMUTH_STEP_DEG) -> list[FarField]:

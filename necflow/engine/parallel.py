@@ -12,8 +12,8 @@ from __future__ import annotations
 
 import multiprocessing
 import time
+from collections.abc import Callable, Sequence
 from concurrent.futures import ProcessPoolExecutor
-from typing import Callable, Sequence
 
 import numpy as np
 
@@ -147,7 +147,7 @@ class ParallelSolver:
             futures = [pool.submit(_solve_block, self.solver, m, freqs[i][idx])
                        for m, i, idx in tasks]
             results = [fu.result() for fu in futures]
-        for (m, i, idx), (z, dt) in zip(tasks, results):
+        for (_, i, idx), (z, dt) in zip(tasks, results):
             out[i][idx] = z
             self.solves += idx.size
             self.solve_seconds += dt

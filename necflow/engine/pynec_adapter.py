@@ -16,7 +16,7 @@ exp(+j omega t) (inductive reactance positive).
 from __future__ import annotations
 
 import importlib.metadata
-from typing import Callable
+from collections.abc import Callable
 
 import numpy as np
 from PyNEC import nec_context

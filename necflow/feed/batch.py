@@ -146,7 +146,7 @@ class FeedBatch:
         zfp = np.broadcast_to(np.asarray(z_feedpoint, dtype=complex), self.f.shape)
         states = power.states_toward_radio(self.matrices(values), zfp)
         vn, i_n = v0, i0 = next(states)
-        for v0, i0 in states:
+        for v0, i0 in states:  # noqa: B007  (the last state is the radio's)
             pass
         shape = (nvar, self.f.size)
         v0, i0 = np.broadcast_to(v0, shape), np.broadcast_to(i0, shape)

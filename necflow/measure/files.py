@@ -31,7 +31,7 @@ def read_measurement(path: str | os.PathLike, *, at: str = "radio",
     if at not in LOCATIONS:
         raise ConfigError(f"'{at}' is not a place of measurement; expected radio or "
                           "feedpoint", field="--at")
-        
+
     p = Path(path)
     suffix = p.suffix.lower()
     if suffix == ".s1p" or suffix == ".ts":

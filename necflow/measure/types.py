@@ -133,7 +133,7 @@ class Measurement:
         """SWR against ``z_ref`` [1]."""
         return swr_from_mag(self.gamma_mag)
 
-    def with_location(self, at: str) -> "Measurement":
+    def with_location(self, at: str) -> Measurement:
         """The same sweep, said to be taken at ``at``."""
         return replace(self, at=at)
 

@@ -15,6 +15,7 @@ from necflow.model.types import FeedLocation, GroundModel, Wire, WireModel, Wire
 
 __all__ = [
     "FeedLocation", "Finding", "GroundModel", "ModelSummary", "Wire", "WireModel", "WireRow",
-    "WireSpan", "build_model", "check_geometry", "check_variant", "check_rules", "geometry", "ground_model",
+    "WireSpan", "build_model", "check_geometry", "check_variant", "check_rules", "geometry",
+    "ground_model",
     "summarize", "target_segment_length", "wire_conductivity",
 ]

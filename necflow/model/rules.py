@@ -24,7 +24,8 @@ RULE_MAX_SEGMENT = "NEC-2 guide: segment length <= 0.1 wavelength"
 RULE_CRITICAL_SEGMENT = "NEC-2 guide: segment length <= 0.05 wavelength at the source"
 RULE_MIN_SEGMENT = "NEC-2 guide: segment length >= 0.001 wavelength"
 RULE_THIN_WIRE = "NEC-2 guide: segment length / radius >= 8 (thin-wire kernel)"
-RULE_REFLECTION_HEIGHT = "NEC-2 guide: reflection-coefficient ground needs height >= ~0.2 wavelength"
+RULE_REFLECTION_HEIGHT = ("NEC-2 guide: reflection-coefficient ground needs height >= ~0.2 "
+                          "wavelength")
 RULE_REFLECTION_CONTACT = ("NEC-2 guide: wires connected to the ground need a perfect or "
                            "Sommerfeld-Norton ground")
 RULE_JUNCTION_RATIO = "NEC-2 guide: nearly equal segment lengths at junctions (ratio <= 2)"

@@ -60,7 +60,7 @@ class BatchSpec(BaseModel):
                                          "alternatives; the cells are every combination")
 
     @model_validator(mode="after")
-    def _cell_count(self) -> "BatchSpec":
+    def _cell_count(self) -> BatchSpec:
         n = 1
         for values in self.matrix.values():
             n *= max(len(values), 1)
@@ -212,7 +212,8 @@ def run_batch(path, out: Path | None = None, *, workers: int = 1, storage: str |
     """Run every unfinished cell; returns the spec, all cell summaries, the
     ids of the cells skipped because they had finished before, and the folder."""
     spec, todo = load_batch(path)
-    out = Path(out) if out else Path("runs") / f"{re.sub(r'[^A-Za-z0-9_.-]+', '-', spec.name)}-batch"
+    safe = re.sub(r"[^A-Za-z0-9_.-]+", "-", spec.name)
+    out = Path(out) if out else Path("runs") / f"{safe}-batch"
     skipped, pending = [], []
     for cid, over, text in todo:
         if (out / "cells" / cid / "cell.json").exists():

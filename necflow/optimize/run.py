@@ -9,10 +9,10 @@ them; nothing here prints or decides an exit status.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import datetime
 from pathlib import Path
-from typing import Callable
 
 from optuna.distributions import CategoricalDistribution, FloatDistribution
 from optuna.trial import FrozenTrial, TrialState, create_trial

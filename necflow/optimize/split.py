@@ -27,8 +27,9 @@ on all cores.  Single objective (``cost``) only.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field, replace
-from typing import Any, Callable
+from typing import Any
 
 import numpy as np
 from scipy.stats import qmc

@@ -35,9 +35,9 @@ import socket
 import threading
 import time
 import warnings
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import Callable
 
 import numpy as np
 import optuna

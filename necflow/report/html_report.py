@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import base64
 import json
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from html import escape
 from pathlib import Path
 
@@ -241,7 +241,8 @@ def _stress(report: dict) -> str:
     per_band = []
     ids = [r["id"] for r in report["stress"]]
     for band, rs in report["stress_by_band"].items():
-        per_band.append([_e(band)] + [f"{_num(r['v_peak'], '.0f')} / {_num(r['v_peak_worst'], '.0f')}"
+        per_band.append([_e(band)] + [f"{_num(r['v_peak'], '.0f')} / "
+                                      f"{_num(r['v_peak_worst'], '.0f')}"
                                       for r in rs])
     return (_table(head, rows, left=2) + f"<h3>Peak voltage per band, V at {p:g} W / {pw:g} W"
             "</h3>" + _table(["band"] + [_e(i) for i in ids], per_band))
@@ -274,7 +275,7 @@ def _provenance(results: dict, manifest: dict, report: dict) -> str:
             ["run", _e(f"{manifest.get('started_utc', '')} to {manifest.get('finished_utc', '')}")],
             ["versions", _e(", ".join(f"{k} {x}" for k, x in v.items()))],
             ["optimised design from", _e(report.get("optimised_from") or "no study")],
-            ["report written", _e(datetime.now(timezone.utc).isoformat(timespec="seconds"))]]
+            ["report written", _e(datetime.now(UTC).isoformat(timespec="seconds"))]]
     return _table(["", ""], rows, left=2)
 
 

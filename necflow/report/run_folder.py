@@ -10,7 +10,7 @@ from __future__ import annotations
 import platform
 import re
 import sys
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from importlib import metadata
 from pathlib import Path
 
@@ -34,7 +34,7 @@ def versions() -> dict[str, str]:
 
 
 def now_utc() -> datetime:
-    return datetime.now(timezone.utc)
+    return datetime.now(UTC)
 
 
 def default_run_dir(name: str, base: Path = Path("runs"), when: datetime | None = None) -> Path:

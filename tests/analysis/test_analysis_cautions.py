@@ -6,8 +6,8 @@ import math
 
 import numpy as np
 
-from necflow.analysis.stress_cautions import cautions, ratings_of
 from necflow.analysis.powerflow import analyse
+from necflow.analysis.stress_cautions import cautions, ratings_of
 from necflow.config.schema import PartElement, TransformerElement
 from necflow.feed.chain import build_chain
 

@@ -2,12 +2,12 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 
 from necflow.chain import load_design
-
-from pathlib import Path
 
 CONFIGS = Path(__file__).resolve().parents[2] / "configs"
 

@@ -48,8 +48,7 @@ def test_bad_vary_and_target(capsys):
 
 @pytest.mark.engine
 def test_fit_writes_calibrated_design_that_evaluates(tmp_path, capsys):
-    from necflow.chain import load_design
-    from necflow.chain import evaluate
+    from necflow.chain import evaluate, load_design
 
     out = tmp_path / "fit"
     assert main(["fit", DESIGN, str(MEASURED / "field-doublet-feedpoint.s1p"), "--at",

@@ -8,16 +8,14 @@ value and within four of its own standard deviations of it.
 
 from __future__ import annotations
 
-import numpy as np
 import pytest
 
 from necflow.calibrate.fit import SWR_ONLY_NOTE, fit_design
-from necflow.config.fields import build_params, set_values
 from necflow.calibrate.response import Responder
-from necflow.chain import load_design
 from necflow.calibrate.synthetic import synthetic_sweep
-from necflow.measure.types import Measurement
+from necflow.config.fields import build_params
 from necflow.config.sections import SearchParam
+from necflow.measure.types import Measurement
 
 pytestmark = pytest.mark.engine
 NOISE = 0.003

@@ -7,6 +7,8 @@ frequency read off it.
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 
@@ -15,8 +17,6 @@ from necflow.calibrate.response import Responder
 from necflow.calibrate.trim import TOLERANCE, swr_minimum, trim_design
 from necflow.chain import load_design
 from necflow.measure.types import gamma_from_z
-
-from pathlib import Path
 
 CONFIGS = Path(__file__).resolve().parents[2] / "configs"
 

@@ -21,9 +21,9 @@ import pytest
 
 from necflow import units
 from necflow.calibrate.fit import fit_design
-from necflow.config.fields import build_params
 from necflow.calibrate.response import Responder
 from necflow.chain import load_design
+from necflow.config.fields import build_params
 from necflow.measure import read_measurement
 
 MEASURED = Path(__file__).resolve().parents[2] / "configs" / "measured"

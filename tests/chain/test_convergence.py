@@ -17,8 +17,8 @@ import numpy as np
 import pytest
 from scipy.constants import speed_of_light
 
-from necflow.chain.convergence import CAUTION_FRACTION, check_convergence
 from necflow.chain import load_design
+from necflow.chain.convergence import CAUTION_FRACTION, check_convergence
 from necflow.config.schema import Design
 from tests.conftest import CONFIGS
 from tests.engine.test_free_space_dipole import induced_emf

@@ -7,8 +7,8 @@ from pathlib import Path
 import pytest
 from bad_cases import BASE
 
-from necflow.config.load import parse_yaml
 from necflow.chain import load_design, load_design_text
+from necflow.config.load import parse_yaml
 from necflow.config.schema import Design
 from necflow.errors import ConfigError
 

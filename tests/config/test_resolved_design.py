@@ -12,8 +12,7 @@ from bad_cases import BASE
 
 from necflow import units
 from necflow.chain import load_design, load_design_text
-from necflow.config.resolve import (config_sha256, exact_quantity, resolve_design,
-                                    resolved_yaml)
+from necflow.config.resolve import config_sha256, exact_quantity, resolve_design, resolved_yaml
 
 ROOT = Path(__file__).resolve().parents[2]
 

@@ -15,8 +15,8 @@ import pytest
 import yaml
 from bad_cases import BASE
 
-from necflow.config.load import parse_yaml
 from necflow.chain import load_design_text
+from necflow.config.load import parse_yaml
 from necflow.errors import ConfigError
 
 RATIOS = ["1:1", "4:1", "9:1", "49:1", "64:1", "1:4", "2.25:1", "12:1"]

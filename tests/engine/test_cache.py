@@ -12,8 +12,8 @@ import pytest
 from necflow.engine import pynec_adapter
 from necflow.engine.cache import SolveStore, frequency_keys
 from necflow.engine.parallel import ParallelSolver, frequency_blocks
-from necflow.model import build_model
 from necflow.engine.response import ResponseCache
+from necflow.model import build_model
 from tests.conftest import dipole_like_solver
 
 F = np.linspace(14.0e6, 14.35e6, 5)

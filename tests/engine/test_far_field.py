@@ -14,8 +14,13 @@ import numpy as np
 import pytest
 from scipy.constants import speed_of_light
 
-from necflow.engine.far_field import (average_gain, average_gain_test, far_field,
-                                      lossless_copy, sphere_average)
+from necflow.engine.far_field import (
+    average_gain,
+    average_gain_test,
+    far_field,
+    lossless_copy,
+    sphere_average,
+)
 from necflow.model import GroundModel, build_model
 from tests.conftest import design_of
 

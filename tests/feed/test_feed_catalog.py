@@ -7,8 +7,13 @@ import math
 import numpy as np
 import pytest
 
-from necflow.catalog.lines import (FT100_M, LINE_TYPES, custom_line_type, fit_attenuation,
-                                   two_wire_conductor_loss_db_per_m)
+from necflow.catalog.lines import (
+    FT100_M,
+    LINE_TYPES,
+    custom_line_type,
+    fit_attenuation,
+    two_wire_conductor_loss_db_per_m,
+)
 from necflow.config.schema import LossPoint
 
 MHZ = 1e6

@@ -189,7 +189,7 @@ def test_other_loads_match_the_exact_solution(z_load, q_l, q_c):
     assert_matches_exact(z_load, q_l, q_c)
 
 
-# ---------------------------------------------------------------- every match is one coil and one capacitor
+# ------------------------------------------------ every match is one coil and one capacitor
 
 def test_every_match_is_one_coil_and_one_capacitor():
     # Rebuild each matched network from its topology and its two part

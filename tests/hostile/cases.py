@@ -31,13 +31,13 @@ into a valid file.  Line numbers are looked up in the case's own text
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field as dc_field
+from collections.abc import Callable
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Callable, Union
 
 ANY = "any"  # some line number, whichever
 
-FileContent = Union[str, bytes, Callable[[Path], None]]
+FileContent = str | bytes | Callable[[Path], None]
 
 
 @dataclass(frozen=True)

@@ -76,12 +76,12 @@ def preload() -> None:
     for name in PRELOAD:
         try:
             importlib.import_module(name)
-        except Exception:  # noqa: BLE001 - a moved module is not the runner's business
+        except Exception:
             pass
     try:  # the unit registry loads its definitions on first use
         from necflow import units
         units.registry()
-    except Exception:  # noqa: BLE001
+    except Exception:
         pass
 
 
@@ -100,7 +100,7 @@ def child(case: dict, memory: int) -> None:
         os.dup2(err, 2)
         for fd in (null, out, err):
             os.close(fd)
-        sys.stdin = open(0, "r", closefd=False)
+        sys.stdin = open(0, closefd=False)
         sys.stdout = open(1, "w", encoding="utf-8", errors="backslashreplace", closefd=False)
         sys.stderr = open(2, "w", encoding="utf-8", errors="backslashreplace", closefd=False)
         sys.argv = ["necflow", *case["argv"]]
@@ -115,17 +115,17 @@ def child(case: dict, memory: int) -> None:
         if not isinstance(status, int):
             print(f"runner: main returned {status!r}, not an int", file=sys.stderr)
             status = 99
-    except BaseException:  # noqa: BLE001 - anything escaping main is a finding
+    except BaseException:
         try:
             traceback.print_exc(file=sys.stderr)
-        except BaseException:  # noqa: BLE001
+        except BaseException:
             pass
         status = 99
     finally:
         try:
             sys.stdout.flush()
             sys.stderr.flush()
-        except BaseException:  # noqa: BLE001
+        except BaseException:
             pass
         os._exit(status & 0xFF if status >= 0 else 99)
 

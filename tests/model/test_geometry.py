@@ -39,7 +39,7 @@ def test_inverted_v_end_height_and_droop_give_the_same_wire(make_design):
                      "end_height": f"{end} m"})
     b = make_design({"shape": "inverted-v", "apex_height": f"{apex} m", "leg": f"{leg} m",
                      "droop": f"{droop!r} deg"})
-    (sa, fa), (sb, fb) = geometry(a), geometry(b)
+    (sa, fa), (sb, _fb) = geometry(a), geometry(b)
     for wa, wb in zip(sa, sb):
         np.testing.assert_allclose(wa.start, wb.start, atol=1e-9)
         np.testing.assert_allclose(wa.end, wb.end, atol=1e-9)

@@ -9,9 +9,8 @@ from __future__ import annotations
 
 import dataclasses
 
-import pytest
-
 import numpy as np
+import pytest
 
 from necflow.model import GroundModel, Wire, WireModel, build_model, check_rules, summarize
 from necflow.model import rules as R

@@ -12,9 +12,8 @@ import pytest
 import yaml
 
 from necflow import units
-from necflow.chain import load_design
+from necflow.chain import evaluate, load_design
 from necflow.config.fields import Param
-from necflow.chain import evaluate
 from tests.conftest import dipole_like_solver
 from tests.optimize.helpers import STUDY, write_study
 

@@ -8,17 +8,15 @@ import numpy as np
 import pytest
 
 from necflow.analysis import analyse
-from necflow.chain import load_design_text
+from necflow.catalog.bands import resolve_bands
+from necflow.chain import band_points, evaluate, load_design_text
+from necflow.config.fields import apply
+from necflow.engine.response import ResponseCache
 from necflow.feed import build_chain
 from necflow.feed.batch import FeedBatch
-from necflow.optimize.cost import score
-from necflow.engine.response import ResponseCache
-from necflow.optimize.cost import score_design
+from necflow.optimize.cost import score, score_design
 from necflow.optimize.inner import FeedSearch
-from necflow.config.fields import apply
 from necflow.optimize.space import build_space
-from necflow.chain import band_points, evaluate
-from necflow.catalog.bands import resolve_bands
 from tests.conftest import dipole_like_solver
 
 DESIGN = """\

@@ -111,7 +111,7 @@ def test_sigkill_twice_then_resume_keeps_every_finished_trial(tmp_path):
     run = tmp_path / "run"
     rng = random.Random(20261202)          # seeded: the kill moments are reproducible
     kept: dict[int, float] = {}
-    for round_ in range(2):
+    for _ in range(2):
         proc = _start(tmp_path, design, 100000)
         _wait_for_complete(proc, run, len(kept) + 3)
         time.sleep(rng.uniform(0.0, 0.4))  # a random moment inside the running study

@@ -15,10 +15,16 @@ from types import SimpleNamespace
 import numpy as np
 import pytest
 
-from necflow.optimize.cost import (SWR_CAP, combine_bands, horizontal_extent, point_cost,
-                                   score, swr_penalty)
 from necflow.config.schema import Design
 from necflow.config.sections import CostSpec
+from necflow.optimize.cost import (
+    SWR_CAP,
+    combine_bands,
+    horizontal_extent,
+    point_cost,
+    score,
+    swr_penalty,
+)
 
 # Float64 arithmetic of a handful of logs and exps: 1e-12 relative is far
 # above its round-off and far below any difference that matters.

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from necflow.errors import ConfigError
 from necflow.cli.progress import remaining_s
+from necflow.errors import ConfigError
 from necflow.optimize.study import parse_duration
 
 

@@ -5,8 +5,8 @@ from __future__ import annotations
 
 import pytest
 
-from necflow.errors import ConfigError
 from necflow.config.fields import apply
+from necflow.errors import ConfigError
 from necflow.optimize.space import load_study_design
 from tests.optimize.helpers import STUDY, write_study
 

@@ -5,9 +5,16 @@ from __future__ import annotations
 import pytest
 
 from necflow.errors import ConfigError
-from necflow.optimize.storage import (JOURNAL_NAME, StorageError, _repair_journal,
-                                      check_storage_url, differences, mask, open_storage,
-                                      redact_url)
+from necflow.optimize.storage import (
+    JOURNAL_NAME,
+    StorageError,
+    _repair_journal,
+    check_storage_url,
+    differences,
+    mask,
+    open_storage,
+    redact_url,
+)
 
 
 @pytest.mark.parametrize("url, shown", [

@@ -16,8 +16,14 @@ from necflow.errors import ConfigError
 from necflow.optimize.outputs import write_outputs
 from necflow.optimize.space import load_study_design
 from necflow.optimize.storage import open_storage
-from necflow.optimize.study import (COUNTED, DISCARDED, FAIL_REASON, StudyOptions,
-                                    counted_trials, run_study)
+from necflow.optimize.study import (
+    COUNTED,
+    DISCARDED,
+    FAIL_REASON,
+    StudyOptions,
+    counted_trials,
+    run_study,
+)
 from tests.conftest import dipole_like_solver
 from tests.optimize.helpers import STUDY, failing_above_34m, rendezvous_solver, write_study
 

@@ -14,17 +14,15 @@ import optuna
 import pytest
 from optuna.trial import TrialState
 
+from necflow.chain import evaluate, load_design
+from necflow.config.fields import apply
 from necflow.config.tolerances import perturbations
-from necflow.optimize.robust import robust_cost
-from necflow.chain import load_design
+from necflow.engine.response import ResponseCache
 from necflow.errors import ConfigError
 from necflow.optimize.cost import score
-from necflow.engine.response import ResponseCache
-from necflow.optimize.robust import check_method, robust_plan, robust_score
-from necflow.config.fields import apply
+from necflow.optimize.robust import check_method, robust_cost, robust_plan, robust_score
 from necflow.optimize.space import load_study_design
 from necflow.optimize.study import StudyOptions, run_study
-from necflow.chain import evaluate
 from tests.conftest import dipole_like_solver
 from tests.optimize.helpers import STUDY, write_study
 

@@ -20,15 +20,14 @@ import warnings
 import numpy as np
 import pytest
 
-from necflow.chain import load_design
+from necflow.chain import evaluate, load_design
+from necflow.chain.report import build_report_data
 from necflow.engine.far_field import FarField
 from necflow.errors import NecflowWarning
-from necflow.chain import evaluate
 from necflow.report.html_report import write_report
-from necflow.chain.report import build_report_data
 from necflow.report.report_data import write_report_data
 from necflow.report.results import results_document, write_json
-from tests.conftest import CONFIGS, dipole_like_solver, design_of
+from tests.conftest import CONFIGS, design_of, dipole_like_solver
 
 ACROSS_TABLE = re.compile(r'<div class="across"><h3>(.*?)</h3><table class="across">(.*?)'
                           r"</table>", re.S)

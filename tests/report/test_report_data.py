@@ -9,11 +9,10 @@ import warnings
 import numpy as np
 import pytest
 
-from necflow.chain import load_design
+from necflow.chain import evaluate, load_design
+from necflow.chain.report import build_report_data
 from necflow.engine.far_field import FarField
 from necflow.errors import NecflowWarning
-from necflow.chain import evaluate
-from necflow.chain.report import build_report_data
 from necflow.report.report_data import read_report_data, write_report_data
 from tests.conftest import CONFIGS, dipole_like_solver
 

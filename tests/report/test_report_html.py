@@ -10,16 +10,14 @@ import os
 import re
 import shutil
 import subprocess
-from pathlib import Path
 
 import numpy as np
 import pytest
 import skrf
 
+from necflow.chain import evaluate, load_design
 from necflow.cli import main
-from necflow.chain import load_design
 from necflow.config.resolve import resolved_yaml
-from necflow.chain import evaluate
 from necflow.report.results import results_document, write_json
 from tests.conftest import CONFIGS, ROOT
 

@@ -10,8 +10,12 @@ import pytest
 
 from necflow.analysis import analyse
 from necflow.analysis.alternatives import remote_chain, standard_alternatives, system_gain_dbi
-from necflow.analysis.exposure import (compliance_distance_m, exposure_basis,
-                                      reflection_factor_for, uncontrolled_limit_w_m2)
+from necflow.analysis.exposure import (
+    compliance_distance_m,
+    exposure_basis,
+    reflection_factor_for,
+    uncontrolled_limit_w_m2,
+)
 from necflow.analysis.stress_table import scale_to_power, stress_rows
 from necflow.config.schema import Design
 from necflow.feed import build_chain
@@ -133,7 +137,8 @@ Z80 = np.array([45 - 120j, 62 - 15j, 85 + 95j])
 def test_remote_unit_drives_one_run_of_the_designs_coax():
     """A matching unit at the feedpoint replaces the balanced section and the
     balun: the unit, then the design's coax type over the total run."""
-    alts = {a.name: a for a in standard_alternatives(_doublet_80m(), F80, Z80, build_chain(_doublet_80m().feed))}
+    d = _doublet_80m()
+    alts = {a.name: a for a in standard_alternatives(d, F80, Z80, build_chain(d.feed))}
     remote = alts["matching unit at the feedpoint"]
     assert remote.system.element_ids == ("matching unit", "coax")
     assert remote.chain.startswith("antenna -> matching unit: lossy L-network")

@@ -6,8 +6,7 @@ import numpy as np
 import pytest
 import skrf
 
-from necflow.chain import load_design
-from necflow.chain import evaluate
+from necflow.chain import evaluate, load_design
 from necflow.report.results import results_document
 from necflow.report.touchstone import write_from_results, write_s1p
 from tests.conftest import CONFIGS, dipole_like_solver
