@@ -92,7 +92,7 @@ def sweep_overhead(design_path: Path) -> dict:
 def reference(design, space, workers: int) -> dict:
     from necflow.engine.parallel import ParallelSolver
     from necflow.engine.response import ResponseCache
-    from necflow.optimize.split import split_search
+    from necflow.optimize.strategy.split import split_search
 
     t0 = time.perf_counter()
     with ParallelSolver(workers=workers) as ps:
@@ -108,7 +108,7 @@ def fast(design, space, workers: int, store_dir: Path) -> dict:
     from necflow.engine.cache import SolveStore
     from necflow.engine.parallel import ParallelSolver
     from necflow.engine.response import ResponseCache
-    from necflow.optimize.split import split_search
+    from necflow.optimize.strategy.split import split_search
 
     t0 = time.perf_counter()
     with ParallelSolver(workers=workers) as ps:        # pool start-up is timed too
@@ -128,8 +128,8 @@ def plain_loop(design, space, target: float, budget_s: float, seed: int = 1) -> 
     from necflow.chain import evaluate
     from necflow.config.fields import apply
     from necflow.model import check_variant
-    from necflow.optimize.cost import score
-    from necflow.optimize.study import enqueue_start
+    from necflow.optimize.problem.cost import score
+    from necflow.optimize.strategy.study import enqueue_start
 
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     solver = TimedSolver()
@@ -185,7 +185,7 @@ def memory_growth(design, space, cache, n_total: int = 10_000, seed: int = 3) ->
     """Resident memory after 100 and after ``n_total`` scored variants (full
     pipeline, antenna responses from the cache: the steady state of a study)."""
     from necflow.config.fields import apply
-    from necflow.optimize.cost import score_design
+    from necflow.optimize.problem.cost import score_design
 
     rng = np.random.default_rng(seed)
     geo = [p for p in space.params if p.geometry]
@@ -224,7 +224,7 @@ def main(argv=None) -> int:
     import warnings
 
     from necflow.errors import NecflowWarning
-    from necflow.optimize.space import load_study_design
+    from necflow.optimize.problem.space import load_study_design
 
     warnings.simplefilter("ignore", NecflowWarning)
     t_start = time.perf_counter()

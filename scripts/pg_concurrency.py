@@ -66,7 +66,7 @@ import sys
 import time
 {preamble}
 from necflow.cli import main
-import necflow.optimize.run, necflow.optimize.study, necflow.optimize.outputs  # noqa
+import necflow.optimize.run, necflow.optimize.strategy.study, necflow.optimize.outputs  # noqa
 import necflow.config.load, necflow.chain, optuna, sqlalchemy, psycopg  # noqa
 if __name__ == "__main__":
     time.sleep(max(0.0, float(os.environ["NECFLOW_START_AT"]) - time.time()))

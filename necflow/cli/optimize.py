@@ -23,10 +23,10 @@ from necflow.errors import ConfigError
 from necflow.limits import WORKERS_PER_CORE
 from necflow.optimize import run
 from necflow.optimize.outputs import band_table_text
-from necflow.optimize.robust import check_method
-from necflow.optimize.space import load_study_design
-from necflow.optimize.storage import check_storage_url, storage_password
-from necflow.optimize.study import StudyOptions, parse_duration, run_study
+from necflow.optimize.problem.robust import check_method
+from necflow.optimize.problem.space import load_study_design
+from necflow.optimize.storage.backends import check_storage_url, storage_password
+from necflow.optimize.strategy.study import StudyOptions, parse_duration, run_study
 from necflow.report import run_folder
 
 DEFAULT_TRIALS = 100

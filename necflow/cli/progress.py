@@ -13,7 +13,7 @@ from typing import TextIO
 from rich.console import Console
 from rich.live import Live
 
-from necflow.optimize.study import counted_trials
+from necflow.optimize.strategy.study import counted_trials
 
 
 def _hms(seconds: float | None) -> str:

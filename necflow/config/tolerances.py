@@ -9,7 +9,7 @@ equal-probability bins of its range; the combinations (a seeded subset
 beyond ``max_states``) are solved once each and shared by every case that
 draws them, while the feed variants cost no solve.  The tolerance Monte
 Carlo (:mod:`necflow.calibrate.tolerance`) and robust design
-(:mod:`necflow.optimize.robust`) draw their cases here.
+(:mod:`necflow.optimize.problem.robust`) draw their cases here.
 """
 
 from __future__ import annotations

@@ -36,11 +36,11 @@ from necflow.chain import load_design_text
 from necflow.config.load import parse_yaml, read_design_text
 from necflow.engine.response import ResponseCache
 from necflow.errors import ConfigError
-from necflow.optimize.cost import score_design
 from necflow.optimize.outputs import write_outputs
-from necflow.optimize.space import build_space
-from necflow.optimize.storage import describe
-from necflow.optimize.study import StudyOptions, run_study
+from necflow.optimize.problem.cost import score_design
+from necflow.optimize.problem.space import build_space
+from necflow.optimize.storage.backends import describe
+from necflow.optimize.strategy.study import StudyOptions, run_study
 
 #: Most cells in one batch (each is an evaluation or a whole study).
 MAX_CELLS = 10_000

@@ -25,9 +25,9 @@ from necflow.config.fields import apply
 from necflow.config.resolve import resolved_yaml
 from necflow.engine.response import ResponseCache
 from necflow.errors import NecflowError
-from necflow.optimize.cost import score
-from necflow.optimize.robust import robust_plan, robust_score
-from necflow.optimize.storage import redact_url
+from necflow.optimize.problem.cost import score
+from necflow.optimize.problem.robust import robust_plan, robust_score
+from necflow.optimize.storage.backends import redact_url
 from necflow.report import run_folder
 from necflow.report.tables import band_table
 from necflow.units import _DISPLAY

@@ -21,11 +21,11 @@ from necflow.config.resolve import config_sha256
 from necflow.engine.cache import SolveStore
 from necflow.engine.parallel import ParallelSolver
 from necflow.engine.response import ResponseCache
-from necflow.optimize.cost import score
 from necflow.optimize.outputs import StudyOutputs, write_outputs
-from necflow.optimize.split import SplitResult, split_search
-from necflow.optimize.storage import describe, redact_url
-from necflow.optimize.study import StudyOptions, counted_trials, open_study
+from necflow.optimize.problem.cost import score
+from necflow.optimize.storage.backends import describe, redact_url
+from necflow.optimize.strategy.split import SplitResult, split_search
+from necflow.optimize.strategy.study import StudyOptions, counted_trials, open_study
 from necflow.report import run_folder
 
 __all__ = ["SPLIT_FINISHED", "SearchOutcome", "SplitRun", "distribution", "finish_search",

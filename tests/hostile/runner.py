@@ -59,8 +59,8 @@ PRELOAD = (
     "necflow.engine.pynec_adapter", "necflow.engine.cache", "necflow.engine.parallel",
     "necflow.feed.chain", "necflow.analysis.powerflow", "necflow.report.run_folder",
     "necflow.report.tables", "necflow.report.decision",
-    "necflow.optimize.run", "necflow.optimize.study", "necflow.optimize.space",
-    "necflow.optimize.storage", "necflow.optimize.batch", "necflow.optimize.outputs",
+    "necflow.optimize.run", "necflow.optimize.strategy.study", "necflow.optimize.problem.space",
+    "necflow.optimize.storage.backends", "necflow.optimize.batch", "necflow.optimize.outputs",
     "necflow.cli.calibrate", "necflow.calibrate.fit", "necflow.calibrate.trim",
     "necflow.calibrate.tolerance", "necflow.measure", "necflow.calibrate.overlay",
 )

@@ -14,9 +14,9 @@ from necflow.config.fields import apply
 from necflow.engine.response import ResponseCache
 from necflow.feed import build_chain
 from necflow.feed.batch import FeedBatch
-from necflow.optimize.cost import score, score_design
-from necflow.optimize.inner import FeedSearch
-from necflow.optimize.space import build_space
+from necflow.optimize.problem.cost import score, score_design
+from necflow.optimize.problem.space import build_space
+from necflow.optimize.strategy.inner import FeedSearch
 from tests.conftest import dipole_like_solver
 
 DESIGN = """\

@@ -17,7 +17,7 @@ from optuna.storages.journal import JournalFileBackend
 from optuna.trial import TrialState
 
 from necflow.cli import main
-from necflow.optimize.study import FAIL_REASON
+from necflow.optimize.strategy.study import FAIL_REASON
 from tests.optimize.helpers import CLI_SCRIPT, STUDY, cli_env, write_study
 
 BASE = STUDY.split("search:")[0]

@@ -24,9 +24,9 @@ import optuna
 import pytest
 from optuna.trial import TrialState
 
-from necflow.optimize.bookkeeping import COUNTED, slots_taken, take_slot
-from necflow.optimize.space import load_study_design
-from necflow.optimize.study import StudyOptions, open_study, run_study, worker_loop
+from necflow.optimize.problem.space import load_study_design
+from necflow.optimize.storage.bookkeeping import COUNTED, slots_taken, take_slot
+from necflow.optimize.strategy.study import StudyOptions, open_study, run_study, worker_loop
 from tests.conftest import dipole_like_solver
 from tests.optimize.helpers import ROOT, STUDY, fresh_schema_url, postgres_url, write_study
 

@@ -1,6 +1,6 @@
 """The cost function's terms on hand-computed cases.
 
-The cost is defined in necflow/optimize/cost.py (and the README "Cost"
+The cost is defined in necflow/optimize/problem/cost.py (and the README "Cost"
 section); these checks compute its terms by hand from that definition.
 The softplus limits used below (ln 2 at 0, x for large x, e^x for very
 negative x) are from Goodfellow, Bengio and Courville, *Deep Learning*,
@@ -17,7 +17,7 @@ import pytest
 
 from necflow.config.schema import Design
 from necflow.config.sections import CostSpec
-from necflow.optimize.cost import (
+from necflow.optimize.problem.cost import (
     SWR_CAP,
     combine_bands,
     horizontal_extent,

@@ -8,8 +8,8 @@ import pytest
 from optuna.trial import TrialState
 
 from necflow.engine import solve_count
-from necflow.optimize.space import load_study_design
-from necflow.optimize.study import StudyOptions, run_study
+from necflow.optimize.problem.space import load_study_design
+from necflow.optimize.strategy.study import StudyOptions, run_study
 from tests.optimize.helpers import write_study
 
 # 20 m doublet, span searched on a 50 cm grid (three geometries), the

@@ -6,7 +6,7 @@ import pytest
 
 from necflow.cli.progress import remaining_s
 from necflow.errors import ConfigError
-from necflow.optimize.study import parse_duration
+from necflow.optimize.strategy.study import parse_duration
 
 
 @pytest.mark.parametrize("text, seconds", [("8h", 28800.0), ("90m", 5400.0), ("45s", 45.0),

@@ -7,7 +7,7 @@ import pytest
 
 from necflow.config.fields import apply
 from necflow.errors import ConfigError
-from necflow.optimize.space import load_study_design
+from necflow.optimize.problem.space import load_study_design
 from tests.optimize.helpers import STUDY, write_study
 
 BASE = STUDY.split("search:")[0]

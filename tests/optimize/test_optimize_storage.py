@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 
 from necflow.errors import ConfigError
-from necflow.optimize.storage import (
+from necflow.optimize.storage.backends import (
     JOURNAL_NAME,
     StorageError,
     _repair_journal,

@@ -14,9 +14,9 @@ from optuna.trial import TrialState
 from necflow.chain import load_design
 from necflow.errors import ConfigError
 from necflow.optimize.outputs import write_outputs
-from necflow.optimize.space import load_study_design
-from necflow.optimize.storage import open_storage
-from necflow.optimize.study import (
+from necflow.optimize.problem.space import load_study_design
+from necflow.optimize.storage.backends import open_storage
+from necflow.optimize.strategy.study import (
     COUNTED,
     DISCARDED,
     FAIL_REASON,

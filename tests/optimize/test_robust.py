@@ -19,10 +19,10 @@ from necflow.config.fields import apply
 from necflow.config.tolerances import perturbations
 from necflow.engine.response import ResponseCache
 from necflow.errors import ConfigError
-from necflow.optimize.cost import score
-from necflow.optimize.robust import check_method, robust_cost, robust_plan, robust_score
-from necflow.optimize.space import load_study_design
-from necflow.optimize.study import StudyOptions, run_study
+from necflow.optimize.problem.cost import score
+from necflow.optimize.problem.robust import check_method, robust_cost, robust_plan, robust_score
+from necflow.optimize.problem.space import load_study_design
+from necflow.optimize.strategy.study import StudyOptions, run_study
 from tests.conftest import dipole_like_solver
 from tests.optimize.helpers import STUDY, write_study
 

@@ -15,9 +15,9 @@ import pytest
 from necflow.chain import load_design_text
 from necflow.config.fields import apply
 from necflow.engine.response import ResponseCache
-from necflow.optimize.cost import score_design
-from necflow.optimize.space import build_space
-from necflow.optimize.split import split_search
+from necflow.optimize.problem.cost import score_design
+from necflow.optimize.problem.space import build_space
+from necflow.optimize.strategy.split import split_search
 from tests.conftest import dipole_like_solver
 
 DESIGN = """\

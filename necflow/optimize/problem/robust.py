@@ -27,7 +27,7 @@ from necflow.chain import Chain
 from necflow.chain.cases import evaluate_cases
 from necflow.config.tolerances import base_values, parse_tolerances, perturbations
 from necflow.errors import ConfigError
-from necflow.optimize.cost import horizontal_extent, objective_values, score, score_arrays
+from necflow.optimize.problem.cost import horizontal_extent, objective_values, score, score_arrays
 
 
 @dataclass(frozen=True)

@@ -36,8 +36,8 @@ from scipy.stats import qmc
 
 from necflow.chain import Chain
 from necflow.errors import ConfigError
-from necflow.optimize.cost import score
-from necflow.optimize.inner import FeedSearch, _grid, _item
+from necflow.optimize.problem.cost import score
+from necflow.optimize.strategy.inner import FeedSearch, _grid, _item
 
 
 @dataclass

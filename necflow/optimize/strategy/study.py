@@ -9,7 +9,7 @@ Overnight safety:
   or FAIL of the design itself) count, interrupted ones do not; a worker
   takes a place in the budget under the study lock before it creates a
   trial, so running + finished never exceeds the budget with any number of
-  workers and machines (see :mod:`necflow.optimize.bookkeeping`); a worker
+  workers and machines (see :mod:`necflow.optimize.storage.bookkeeping`); a worker
   that finds every place held by running trials waits for them;
 * creating the storage tables, the study, its start trial and a session's
   number happen under locks too, so any number of commands may start on an
@@ -48,7 +48,10 @@ from necflow.config.fields import locate
 from necflow.engine.cache import SolveStore
 from necflow.engine.response import ResponseCache
 from necflow.errors import ConfigError, NecflowError
-from necflow.optimize.bookkeeping import (
+from necflow.optimize.problem.cost import score
+from necflow.optimize.problem.robust import robust_plan, robust_score
+from necflow.optimize.storage.backends import guard_resume, open_storage, study_lock
+from necflow.optimize.storage.bookkeeping import (
     COUNTED,
     DISCARDED,
     FAIL_REASON,
@@ -56,9 +59,6 @@ from necflow.optimize.bookkeeping import (
     fail_orphans,
     take_slot,
 )
-from necflow.optimize.cost import score
-from necflow.optimize.robust import robust_plan, robust_score
-from necflow.optimize.storage import guard_resume, open_storage, study_lock
 
 __all__ = ["COUNTED", "DISCARDED", "FAIL_REASON", "Interrupted", "StudyOptions",
            "TrialFailure", "begin_session", "counted_trials", "enqueue_start", "fail_orphans",

@@ -11,7 +11,7 @@ interruption (or whose worker died) gives its place back.
 
 The user attributes written here are the study's record of each trial.
 The study code (these helpers and the worker loop in
-:mod:`necflow.optimize.study`) relies on these private optuna internals, to
+:mod:`necflow.optimize.strategy.study`) relies on these private optuna internals, to
 be re-checked when optuna is upgraded: ``study._storage``,
 ``study._study_id``, ``study._thread_local``, ``trial._trial_id``,
 ``storage.create_new_trial(..., template_trial=...)``, and on RDB storages
@@ -31,7 +31,7 @@ import optuna
 from optuna.storages._rdb import models
 from optuna.trial import FrozenTrial, TrialState
 
-from necflow.optimize.storage import GRACE_S
+from necflow.optimize.storage.backends import GRACE_S
 
 FAIL_REASON = "necflow.fail_reason"
 COUNTED = "necflow.counted"

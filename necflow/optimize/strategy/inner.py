@@ -4,7 +4,7 @@ variants per numpy call, no solve.
 For a fixed antenna response ``Z_fp(f)`` the cost of a feed variant is a
 pure function of the feed parameters, computed by
 :class:`necflow.feed.batch.FeedBatch` and :func:`batch_cost` (the cost of
-:mod:`necflow.optimize.cost`, vectorised over variants).  When every feed
+:mod:`necflow.optimize.problem.cost`, vectorised over variants).  When every feed
 parameter lies on a grid (``choices`` or ``step``) and the grid has at most
 ``max_variants`` points, the search is exhaustive (the exact optimum of the
 grid for that geometry); otherwise a scrambled Sobol sample followed by
@@ -21,7 +21,7 @@ from scipy.stats import qmc
 
 from necflow.feed import build_chain
 from necflow.feed.batch import FeedBatch
-from necflow.optimize.cost import score_arrays
+from necflow.optimize.problem.cost import score_arrays
 
 #: Variants per numpy call (bounds the working memory to some tens of MB).
 CHUNK = 4096

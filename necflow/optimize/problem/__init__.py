@@ -1,0 +1,1 @@
+"""The problem a study solves: its search space, its cost and robust scoring."""
