@@ -15,7 +15,7 @@ from typing import Any
 
 import numpy as np
 
-from necflow.chain.stages import Chain
+from necflow.chain.stages import Chain, prefetch
 from necflow.errors import ConfigError, ModelError
 from necflow.feed.batch import SUPPORTED, FeedBatch
 
@@ -70,8 +70,7 @@ def evaluate_cases(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
             raise ModelError(f"tolerance case {idx[0]}: {exc}") from None
     # every geometry state asked of the cache together (solved in parallel
     # where the solver runs a pool), then read back one by one
-    chain.responses.lookup_many([m.wire_model for m in members.values()],
-                                np.unique(f))
+    prefetch(list(members.values()))
     for key, idx in groups.items():
         member = members[key]
         batch = FeedBatch(member.feed, f, varied)

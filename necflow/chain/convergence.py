@@ -214,7 +214,8 @@ def check_convergence(design: Design, *, solver: Callable | None = None,
     """
     chain = Chain(design, solver)
     fine = chain.refined(refinement)
-    model, fine_model = chain.wire_model, fine.wire_model   # both built (and sized) first
+    # every band's model built (and sized against the limits) before any solve
+    model, fine_model = (c.wire_model for c in (chain, fine) if c.models)
     bands = chain.bands
     f_top = np.array([b.high_hz for b in bands], dtype=float)
     z = chain.antenna_at(f_top)

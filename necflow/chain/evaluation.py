@@ -51,6 +51,8 @@ class Evaluation:
         One-line cautions (high voltage, ratings exceeded).
     feed : FeedChain
         The feed chain's two-ports (the design's ``feed``).
+    models : tuple of WireModel
+        The model of each band (``model`` is the top band's).
     """
 
     design: Design
@@ -62,6 +64,7 @@ class Evaluation:
     findings: list = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
     feed: FeedChain | None = None
+    models: tuple = ()
 
     def band_summaries(self) -> list[BandSummary]:
         """Lowest SWR and where, SWR at the edges and mean loss, per band."""

@@ -81,8 +81,14 @@ def _far_field_records(evaluation, far_field_fn, agt_fn) -> list[dict]:
     d = evaluation.design
     angles = np.array([e.elevation for e in d.report.elevations])
     f, idx = far_field_frequencies(evaluation)
-    ffs = far_field_fn(evaluation.model, f, angles=angles)
-    agt = np.asarray(agt_fn(evaluation.model, f), dtype=float)
+    models = evaluation.models or tuple(evaluation.model for _ in evaluation.bands)
+    ffs: list = [None] * f.size
+    agt = np.empty(f.size)
+    for m in {id(m): m for m in models}.values():      # each band's own model
+        sel = np.flatnonzero([models[int(i)] is m for i in idx])
+        for k, ff in zip(sel, far_field_fn(m, f[sel], angles=angles)):
+            ffs[k] = ff
+        agt[sel] = np.asarray(agt_fn(m, f[sel]), dtype=float)
     expected = 2.0 if evaluation.model.ground.has_ground else 1.0
     out = []
     for ff, i, a in zip(ffs, idx, agt):
@@ -201,8 +207,8 @@ def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
                           stacklevel=2)
             opt, best = None, None
         if opt is not None:
-            same = (Chain(best, top_frequency_hz=float(f_all.max())).wire_model.key()
-                    == evaluation.model.key())
+            same = ([m.key() for m in Chain(best).models]
+                    == [m.key() for m in evaluation.models])
             records.append(_alternative_record(opt, evaluation, n, gains if same else {}))
             optimised_from = str(study_dir)
     ratings = ratings_of(d.feed)

@@ -4,7 +4,7 @@
 
     Chain(design)
       .bands, .frequency_hz, .band_index   bands -> f [Hz]
-      .wire_model                          segmented wires and ground
+      .models, .wire_model                 segmented wires and ground, one model per band
       .findings                            modelling-rule findings of the model
       .antenna                             feedpoint impedance Z(f) through the
                                            engine-owned ResponseCache
@@ -26,6 +26,7 @@ the layers below (:mod:`necflow.model`, :mod:`necflow.feed`,
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable
 from functools import cached_property
 from typing import Any
@@ -108,10 +109,28 @@ class Chain:
     # -- the antenna -------------------------------------------------------
 
     @cached_property
-    def wire_model(self) -> WireModel:
-        """The segmented wire model for the top frequency."""
-        top = self.top_frequency_hz if self.top_frequency_hz is not None else self.f_max
-        return build_model(self.design, top, density=self.density)
+    def models(self) -> tuple[WireModel, ...]:
+        """One segmented wire model per band, aligned with :attr:`bands`.
+
+        Each band's model is segmented for that band: its longest segment
+        for the band's top frequency, its finest segment (beside the source
+        and at junctions) bounded by the modelling rule at the band's lowest
+        frequency.  One model for every band would hold the source segment
+        at 1e-3 wavelength of the lowest band, too coarse at the highest
+        ones where the feed point is kilohms.  With ``top_frequency_hz`` (a
+        fit over a measured range) every band shares one model.
+        """
+        if self.top_frequency_hz is not None:
+            m = build_model(self.design, self.top_frequency_hz, density=self.density)
+            return tuple(m for _ in self.bands)
+        out, seen = [], {}
+        for b in self.bands:
+            key = (b.low_hz, b.high_hz)
+            if key not in seen:
+                seen[key] = build_model(self.design, b.high_hz, density=self.density,
+                                        f_min_hz=b.low_hz)
+            out.append(seen[key])
+        return tuple(out)
 
     def refined(self, density: float) -> Chain:
         """This design with ``density`` times the segments (the same
@@ -119,10 +138,36 @@ class Chain:
         return Chain(self.design, self.responses, top_frequency_hz=self.top_frequency_hz,
                      density=self.density * density)
 
+    @property
+    def wire_model(self) -> WireModel:
+        """The model of the band with the highest top frequency (the finest
+        segmentation; the one the model summary describes)."""
+        return self.models[int(np.argmax([b.high_hz for b in self.bands]))]
+
     @cached_property
     def findings(self) -> list:
-        """Modelling-rule findings of the wire model over the bands."""
-        return check_rules(self.wire_model, self.design, self.f_min, self.f_max)
+        """Modelling-rule findings of every band's model over its band (one
+        finding once, however many bands' models break it)."""
+        out, seen = [], set()
+        for m, b in self._distinct_models():
+            for fd in check_rules(m, self.design, b.low_hz, b.high_hz):
+                k = (fd.severity, fd.rule, getattr(fd, "wire", None), fd.message)
+                if k not in seen:
+                    seen.add(k)
+                    out.append(fd)
+        return out
+
+    def _distinct_models(self) -> list[tuple[WireModel, Band]]:
+        """Each distinct model with the widest band range it serves."""
+        groups: dict[int, tuple[WireModel, float, float]] = {}
+        for m, b in zip(self.models, self.bands):
+            lo, hi = b.low_hz, b.high_hz
+            if id(m) in groups:
+                _, lo0, hi0 = groups[id(m)]
+                lo, hi = min(lo, lo0), max(hi, hi0)
+            groups[id(m)] = (m, lo, hi)
+        return [(m, Band(name="all", low_hz=lo, high_hz=hi, points=2, weight=1.0))
+                for m, lo, hi in groups.values()]
 
     def require_sound_model(self) -> None:
         """Raise :class:`RulesBroken` when the model breaks a rule at error
@@ -134,17 +179,65 @@ class Chain:
                               "solved: its results would be doubtful; 'necflow check' lists "
                               "them", self.findings)
 
+    def band_of(self, frequency_hz) -> np.ndarray:
+        """Index of the band whose model serves each frequency: the band that
+        holds it (the first such), else the nearest band edge's."""
+        f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
+        lo = np.array([b.low_hz for b in self.bands])
+        hi = np.array([b.high_hz for b in self.bands])
+        inside = (f[:, None] >= lo * (1 - 1e-12)) & (f[:, None] <= hi * (1 + 1e-12))
+        gap = np.maximum(lo - f[:, None], f[:, None] - hi)
+        return np.where(inside.any(axis=1), np.argmax(inside, axis=1), np.argmin(gap, axis=1))
+
+    def _by_model(self, frequency_hz) -> list[tuple[WireModel, np.ndarray, np.ndarray]]:
+        """Frequencies grouped by the model that serves them: (model, indexes
+        into ``frequency_hz``, the distinct frequencies of the group)."""
+        f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
+        which = self.band_of(f)
+        groups: dict[int, list[int]] = {}
+        models = {}
+        for i, k in enumerate(which):
+            m = self.models[int(k)]
+            groups.setdefault(id(m), []).append(i)
+            models[id(m)] = m
+        return [(models[g], np.array(idx), np.unique(f[idx])) for g, idx in groups.items()]
+
     def antenna_at(self, frequency_hz) -> np.ndarray:
-        """Feedpoint impedance [ohm] at any frequencies, each distinct one
-        asked of the response cache once."""
-        f = np.asarray(frequency_hz, dtype=float)
-        unique, inverse = np.unique(f, return_inverse=True)
-        return np.asarray(self.responses.lookup(self.wire_model, unique), dtype=complex)[inverse]
+        """Feedpoint impedance [ohm] at any frequencies, each through the
+        model of its band, each distinct (model, frequency) asked of the
+        response cache once."""
+        f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
+        groups = self._by_model(f)
+        solved = self.responses.lookup_each([m for m, _, _ in groups],
+                                            [u for _, _, u in groups])
+        out = np.empty(f.size, dtype=complex)
+        for (_, idx, u), z in zip(groups, solved):
+            out[idx] = np.asarray(z, dtype=complex)[np.searchsorted(u, f[idx])]
+        return out
 
     @cached_property
     def antenna(self) -> np.ndarray:
         """Feedpoint impedance [ohm] at every evaluated point."""
         return self.antenna_at(self.frequency_hz)
+
+    def screened(self, ground_kind: str = "reflection") -> Chain:
+        """This chain with its models' ground solved as ``ground_kind`` (the
+        split search screens geometries over the reflection-coefficient
+        ground, far cheaper than Sommerfeld-Norton)."""
+        out = Chain(self.design, self.responses, top_frequency_hz=self.top_frequency_hz,
+                    density=self.density)
+        for stage in ("bands", "_points"):
+            if stage in self.__dict__:
+                out.__dict__[stage] = self.__dict__[stage]
+        out.__dict__["models"] = tuple(
+            dataclasses.replace(m, ground=dataclasses.replace(m.ground, kind=ground_kind))
+            for m in self.models)
+        return out
+
+    def solve_requests(self) -> list[tuple[WireModel, np.ndarray]]:
+        """The (model, distinct frequencies) pairs :attr:`antenna` asks the
+        response cache for (see :func:`prefetch`)."""
+        return [(m, u) for m, _, u in self._by_model(self.frequency_hz)]
 
     # -- the feed and the system --------------------------------------------
 
@@ -172,18 +265,28 @@ class Chain:
         return Evaluation(design=self.design, bands=self.bands,
                           frequency_hz=self.frequency_hz, band_index=self.band_index,
                           model=self.wire_model, system=self.system,
-                          findings=self.findings, cautions=self.cautions, feed=self.feed)
+                          findings=self.findings, cautions=self.cautions, feed=self.feed,
+                          models=self.models)
 
     # -- far field ---------------------------------------------------------
 
     def far_field(self, frequency_hz, angles) -> list[FarField]:
-        """Patterns of the wire model at ``frequency_hz`` (the engine runs)."""
-        return far_field(self.wire_model, frequency_hz, angles=angles)
+        """Patterns at ``frequency_hz``, each through the model of its band
+        (the engine runs)."""
+        return self._per_model(frequency_hz, lambda m, f: far_field(m, f, angles=angles))
 
     def average_gain_test(self, frequency_hz) -> np.ndarray:
-        """Average gain of the model's lossless copy (1 in free space, 2 over
-        ground expected)."""
-        return average_gain_test(self.wire_model, frequency_hz)
+        """Average gain of the lossless copy of each frequency's model (1 in
+        free space, 2 over ground expected)."""
+        return np.asarray(self._per_model(frequency_hz, average_gain_test), dtype=float)
+
+    def _per_model(self, frequency_hz, run) -> list:
+        f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
+        out: list = [None] * f.size
+        for m, idx, _ in self._by_model(f):
+            for i, r in zip(idx, run(m, f[idx])):
+                out[int(i)] = r
+        return out
 
     # -- variants ----------------------------------------------------------
 
@@ -206,12 +309,26 @@ class Chain:
                     density=self.density)
         moves = any(p.split(".")[0] in GEOMETRY_ROOTS for p in values)
         if not moves:
-            for stage in ("bands", "_points", "wire_model", "findings", "antenna"):
+            for stage in ("bands", "_points", "models", "findings", "antenna"):
                 if stage in self.__dict__:
                     out.__dict__[stage] = self.__dict__[stage]
         elif checked:
             check_variant(design)
         return out
+
+
+def prefetch(chains: list[Chain]) -> None:
+    """Ask the response cache of ``chains[0]`` for the antenna responses of
+    all ``chains`` in one call, so that a solver with a worker pool solves
+    them in parallel; each chain's :attr:`Chain.antenna` then reads memory."""
+    if not chains:
+        return
+    pairs = {}
+    for c in chains:
+        for m, f in c.solve_requests():
+            pairs[(m.key(), f.tobytes())] = (m, f)
+    chains[0].responses.lookup_each([m for m, _ in pairs.values()],
+                                    [f for _, f in pairs.values()])
 
 
 def evaluate(design: Design, *, solver: ResponseCache | Solver | Callable | None = None,
@@ -225,4 +342,4 @@ def evaluate(design: Design, *, solver: ResponseCache | Solver | Callable | None
     return chain.evaluation
 
 
-__all__ = ["Chain", "Evaluation", "band_points", "evaluate"]
+__all__ = ["Chain", "Evaluation", "band_points", "evaluate", "prefetch"]

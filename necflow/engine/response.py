@@ -128,17 +128,23 @@ class ResponseCache:
     __call__ = lookup
 
     def lookup_many(self, models, frequency_hz) -> list[np.ndarray]:
-        """Feedpoint impedances of several models at the same frequencies [ohm].
+        """Feedpoint impedances of several models at the same frequencies [ohm]
+        (:meth:`lookup_each` with one frequency vector for all)."""
+        f = np.asarray(frequency_hz, dtype=float)
+        return self.lookup_each(models, [f] * len(models))
+
+    def lookup_each(self, models, frequencies) -> list[np.ndarray]:
+        """Feedpoint impedance of each model at its own frequencies [ohm].
 
         What neither the memory nor the persistent store holds is solved in
         one call to the solver's ``solve_many`` (all missing models and
         frequency blocks in parallel where the solver runs a pool).
         """
-        f = np.asarray(frequency_hz, dtype=float)
         out: list[np.ndarray | None] = [None] * len(models)
-        need: list[tuple[int, tuple, np.ndarray, np.ndarray, object]] = []
+        need: list[tuple[int, tuple, np.ndarray, np.ndarray, object, np.ndarray]] = []
         tag = self.solver.engine_tag
-        for i, m in enumerate(models):
+        for i, (m, f) in enumerate(zip(models, frequencies)):
+            f = np.asarray(f, dtype=float)
             k = self.key(m, f)
             z = self._store.get(k)
             if z is not None:
@@ -157,11 +163,11 @@ class ResponseCache:
                 out[i] = z.copy()
             else:
                 self.misses += 1
-                need.append((i, k, z, found, m))
+                need.append((i, k, z, found, m, f))
         if need:
-            todo = [f[~found] for _, _, _, found, _ in need]
+            todo = [f[~found] for _, _, _, found, _, f in need]
             solved = self.solver.solve_many([n[4] for n in need], todo)
-            for (i, k, z, found, _), ff, zs in zip(need, todo, solved):
+            for (i, k, z, found, _, _), ff, zs in zip(need, todo, solved):
                 zs = np.asarray(zs, dtype=complex)
                 z = z.copy()
                 z[~found] = zs

@@ -40,7 +40,8 @@ def _frozen(point) -> np.ndarray:
     return out
 
 
-def build_model(design: Design, f_max_hz: float, *, density: float = 1.0) -> WireModel:
+def build_model(design: Design, f_max_hz: float, *, density: float = 1.0,
+                f_min_hz: float | None = None) -> WireModel:
     """Segment the design's antenna for solves up to ``f_max_hz``.
 
     Runs :func:`necflow.model.check_geometry` first.  Segments are at most
@@ -59,6 +60,9 @@ def build_model(design: Design, f_max_hz: float, *, density: float = 1.0) -> Wir
     density : float, optional
         Refinement factor: every segment length is divided by it (2 gives
         about twice the segments, the convergence check's model).
+    f_min_hz : float, optional
+        Lowest frequency the model will be solved at [Hz] (it bounds the
+        finest segment); default the lowest band edge of the design.
 
     Returns
     -------
@@ -70,9 +74,9 @@ def build_model(design: Design, f_max_hz: float, *, density: float = 1.0) -> Wir
     ConfigError
         From :func:`check_geometry`.
     """
-    check_geometry(design, f_max_hz, density=density)
+    check_geometry(design, f_max_hz, density=density, f_min_hz=f_min_hz)
     spans, feed = geometry(design)
-    g = grading(design, f_max_hz, density)
+    g = grading(design, f_max_hz, density, f_min_hz)
     planned, source = plan_wires(spans, feed, g)
     # Connected ends are the very same coordinates: the plan reuses each
     # joint point, and copying keeps the values bit-identical.

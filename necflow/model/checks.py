@@ -18,7 +18,8 @@ from necflow.model.plan import plan_wires
 from necflow.model.segments import grading
 
 
-def check_geometry(design: Design, f_max_hz: float, *, density: float = 1.0) -> None:
+def check_geometry(design: Design, f_max_hz: float, *, density: float = 1.0,
+                   f_min_hz: float | None = None) -> None:
     """Refuse a design whose wires cannot make a sound model.
 
     Checks, in order: inverted-V legs that cannot be placed (end height
@@ -73,7 +74,7 @@ def check_geometry(design: Design, f_max_hz: float, *, density: float = 1.0) -> 
             f"({field}[{i}]){extra}; wires may meet only end to end, at a shared point "
             f"(wire '{spans[j].name}' starts at {p[0]:g}, {p[1]:g}, {p[2]:g} m)",
             field=f"{field}[{j}]" if isinstance(a, WireList) else field)
-    planned, _ = plan_wires(spans, feed, grading(design, f_max_hz, density))
+    planned, _ = plan_wires(spans, feed, grading(design, f_max_hz, density, f_min_hz))
     count = sum(w.segments for w in planned)
     limit = design.model.max_segments
     if count > limit:

@@ -38,13 +38,17 @@ def target_segment_length(design: Design, f_max_hz: float) -> float:
     return speed_of_light / f_max_hz / design.model.segments_per_wavelength
 
 
-def lowest_frequency(design: Design, f_max_hz: float) -> float:
-    """Lowest frequency [Hz] the design's model is solved at: the lowest band
-    edge (``f_max_hz`` if that is lower)."""
+def lowest_frequency(design: Design, f_max_hz: float, f_min_hz: float | None = None) -> float:
+    """Lowest frequency [Hz] the model is solved at: ``f_min_hz`` when given
+    (a model made for one band), else the lowest band edge (``f_max_hz`` if
+    that is lower)."""
+    if f_min_hz is not None:
+        return min(f_min_hz, f_max_hz)
     return min([f_max_hz, *(b.low_hz for b in resolve_bands(design))])
 
 
-def finest_segment_length(design: Design, f_max_hz: float) -> float:
+def finest_segment_length(design: Design, f_max_hz: float,
+                          f_min_hz: float | None = None) -> float:
     """Segment length [m] beside the source and at junctions.
 
     As short as the modelling rules allow, because at a high-impedance feed
@@ -62,7 +66,7 @@ def finest_segment_length(design: Design, f_max_hz: float) -> float:
     """
     spans, _ = geometry(design)
     radius = max(w.radius for w in spans)
-    f_low = lowest_frequency(design, f_max_hz)
+    f_low = lowest_frequency(design, f_max_hz, f_min_hz)
     return max(FINEST_RADII * radius, FINEST_WAVELENGTHS * speed_of_light / f_low)
 
 
@@ -74,13 +78,15 @@ def finest_segment_length(design: Design, f_max_hz: float) -> float:
 JUNCTION_FRACTION = 0.25
 
 
-def grading(design: Design, f_max_hz: float, density: float = 1.0) -> Grading:
-    """The design's segment grading for solves up to ``f_max_hz``.
+def grading(design: Design, f_max_hz: float, density: float = 1.0,
+            f_min_hz: float | None = None) -> Grading:
+    """The design's segment grading for solves from ``f_min_hz`` (default:
+    the lowest band edge) up to ``f_max_hz``.
 
     Longest segment from :func:`target_segment_length`, finest from
     :func:`finest_segment_length`, growth ``GROWTH``; every length divided
     by ``density`` (2 is the convergence check's refined model).
     """
     longest = target_segment_length(design, f_max_hz)
-    return Grading(longest, finest_segment_length(design, f_max_hz), GROWTH,
+    return Grading(longest, finest_segment_length(design, f_max_hz, f_min_hz), GROWTH,
                    JUNCTION_FRACTION * longest).refined(density)

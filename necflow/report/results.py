@@ -84,6 +84,8 @@ def results_document(evaluation, *, config_sha256: str) -> dict[str, Any]:
         "radio": {"impedance_ohm": d.radio.impedance, "power_w": d.radio.power},
         "swr_limit": d.goal.swr_limit,
         "model": {"segments": int(evaluation.model.segment_count),
+                  "segments_per_band": {b.name: int(m.segment_count) for b, m in
+                                        zip(evaluation.bands, evaluation.models)},
                   "ground": d.ground.model},
         "findings": [_fields(x) for x in evaluation.findings],
         "cautions": list(evaluation.cautions),

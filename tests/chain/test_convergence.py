@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import json
 import math
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -223,30 +222,17 @@ def test_drooping_inverted_v_converges_at_the_apex():
 
 SHIPPED = sorted(str(p.relative_to(CONFIGS)) for p in [*CONFIGS.glob("*.yaml"),
                                                         *CONFIGS.glob("measured/*.yaml")])
-#: Bands of shipped designs whose feedpoint impedance changes by more than 2 %:
-#: the 30 m all-band doublet at 18.17 MHz (1.8 wavelengths) and 29.7 MHz (3.0),
-#: where the feed point is 2 to 2.7 kohm.  Its 80 m band limits the shortest
-#: segment to 1e-3 wavelength at 3.5 MHz (8.6 cm), and at these impedances the
-#: source region's capacitance left by segments that long shows (see
-#: necflow/model/plan.py).  The SWR at the radio, behind 10 m of window line and
-#: 25 m of coax, moves by well under 2 %.
-HIGH_IMPEDANCE = {("demo.yaml", "17m"), ("demo.yaml", "10m")}
-
-
 @pytest.mark.engine
 @pytest.mark.parametrize("config", SHIPPED)
 def test_shipped_designs_converge(config):
+    """Every band of every shipped design changes by less than 2 % in feedpoint
+    impedance and in SWR at the radio when the segments are doubled (the
+    acceptance of the graded, per-band segmentation).  The demo's 17 m and
+    10 m bands, with kilohm feed points, needed each band's own model: one
+    model for 80 m to 10 m held its source segment at 1e-3 wavelength of
+    3.5 MHz and changed by 2.3 % and 4.6 %."""
     rep = check_convergence(load_design(CONFIGS / config))
     assert rep.bands
     for b in rep.bands:
         assert b.swr_change < 0.02, (b.band, b.swr_change)
-        if (Path(config).name, b.band) in HIGH_IMPEDANCE:
-            # Flagged, explained, and bounded: a shunt capacitance (admittance
-            # change almost all susceptance, positive) at a kilohm feed point.
-            assert b.caution and 0.02 < b.z_change < 0.06, (b.band, b.z_change)
-            c = b.shunt_capacitance_f()
-            assert c is not None and 50e-15 < c < 200e-15
-            assert abs(b.z) > 1500
-        else:
-            assert b.z_change < 0.02, (b.band, b.z_change)
-            assert not b.caution
+        assert b.z_change < 0.02 and not b.caution, (b.band, b.z_change)

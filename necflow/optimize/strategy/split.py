@@ -28,13 +28,14 @@ on all cores.  Single objective (``cost``) only.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 from scipy.stats import qmc
 
 from necflow.chain import Chain
+from necflow.chain.stages import prefetch
 from necflow.errors import ConfigError
 from necflow.optimize.problem.cost import score
 from necflow.optimize.strategy.inner import FeedSearch, _grid, _item
@@ -150,23 +151,26 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
                           band_index, bands)
     except ValueError as exc:   # a feed field the batch cannot vary
         raise ConfigError(f"{exc}; the trials method searches it", field="search") from None
-    cands, models = [], []
+    cands, chains = [], []
     for g in geometry_candidates(geo, max_geometries, seed):
         try:
-            model = base.variant(g).wire_model
+            c = base.variant(g)
+            _ = c.models                     # built (and checked) now
         except Exception:   # an impossible corner of the space is skipped, not fatal
             continue
         cands.append(g)
-        models.append(model)
+        chains.append(c)
     if not cands:
         raise ConfigError("no candidate geometry of the search space is valid", field="search")
-    screening = screen and models[0].ground.kind == "sommerfeld" and len(cands) > top_k
+    screening = screen and chains[0].wire_model.ground.kind == "sommerfeld" and \
+        len(cands) > top_k
     variants = 0
     screened: list = []
     if screening:
         say(f"screening {len(cands)} geometries over the reflection-coefficient ground")
-        quick = [replace(m, ground=replace(m.ground, kind="reflection")) for m in models]
-        z_quick = cache.lookup_many(quick, f)
+        quick = [c.screened("reflection") for c in chains]
+        prefetch(quick)
+        z_quick = [q.antenna for q in quick]
         for g, z in zip(cands, z_quick):
             r = feed.search(z, max_variants=max_variants, seed=seed)
             variants += r.evaluated
@@ -176,7 +180,8 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
         z_quick = None
         order = np.arange(len(cands))
     say(f"solving {len(order)} geometries over the design's own ground")
-    z_exact = cache.lookup_many([models[k] for k in order], f)
+    prefetch([chains[k] for k in order])
+    z_exact = [chains[k].antenna for k in order]
     confirmations, best = [], None
     z_err = 0.0
     for k, z in zip(order, z_exact):
