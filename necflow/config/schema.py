@@ -260,7 +260,8 @@ class Sloper(Strict):
     length: Length = quantity("length", gt=0, le=2000.0,
                               description="Length of the wire, end to end")
     top_height: Length = quantity("length", gt=0, le=500.0,
-                                  description="Height of the upper end (x = y = 0)")
+                                  description="Height of the upper end, which stands above "
+                                  "x = y = 0")
     bottom_height: Length | None = quantity("length", default=None, ge=0, le=500.0,
                                             description="Height of the lower end (give this "
                                             "or 'slope')")
@@ -394,7 +395,8 @@ class BentDoublet(Strict):
 
     shape: Literal["bent-doublet"]
     height: Length = quantity("length", gt=0, le=500.0,
-                              description="Height of the feed point (x = y = 0)")
+                              description="Height of the feed point, which stands above "
+                              "x = y = 0")
     left: Leg = Field(..., description="The leg that leaves the feed point toward -x")
     right: Leg = Field(..., description="The leg that leaves the feed point toward +x")
     wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
