@@ -248,6 +248,160 @@ class InvertedV(Strict):
         return self
 
 
+#: 90 and 180 degrees [rad], the bounds of the angle fields below.
+_RIGHT_ANGLE = math.pi / 2.0
+_HALF_TURN = math.pi
+
+
+class Sloper(Strict):
+    """A straight wire with one end higher than the other, fed anywhere along it."""
+
+    shape: Literal["sloper"]
+    length: Length = quantity("length", gt=0, le=2000.0,
+                              description="Length of the wire, end to end")
+    top_height: Length = quantity("length", gt=0, le=500.0,
+                                  description="Height of the upper end, which stands above "
+                                  "x = y = 0")
+    bottom_height: Length | None = quantity("length", default=None, ge=0, le=500.0,
+                                            description="Height of the lower end (give this "
+                                            "or 'slope')")
+    slope: Angle | None = quantity("angle", default=None, ge=0, le=_RIGHT_ANGLE,
+                                   description="Angle of the wire below horizontal, 0 to "
+                                   "90 deg (give this or 'bottom_height')")
+    azimuth: Angle = quantity("angle", default="0 deg", ge=-2 * _HALF_TURN,
+                              le=2 * _HALF_TURN,
+                              description="Direction of the run from the upper end toward "
+                              "the lower, seen from above: 0 deg along +x, 90 deg along +y")
+    feed_position: Position = Field(0.5, validate_default=True,
+                                    description="Feed point from the upper end: a fraction "
+                                    "(0.5 is the centre), a percentage ('33 %') or a distance "
+                                    "('6 m')", json_schema_extra={"unit": "fraction or m"})
+    wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
+
+    @model_validator(mode="after")
+    def _one_of(self) -> Sloper:
+        if (self.bottom_height is None) == (self.slope is None):
+            raise ValueError("give exactly one of 'bottom_height' and 'slope'")
+        return self
+
+
+def _one_height(model: Any) -> None:
+    if (model.bottom_height is None) == (model.top_height is None):
+        raise ValueError("give exactly one of 'bottom_height' and 'top_height'")
+
+
+class DeltaLoop(Strict):
+    """A triangular loop in a vertical plane (x-z) with one horizontal side, the base."""
+
+    shape: Literal["delta-loop"]
+    perimeter: Length = quantity("length", gt=0, le=2000.0,
+                                 description="Length of wire around the loop")
+    base: Length | None = quantity("length", default=None, gt=0, le=1000.0,
+                                   description="Length of the horizontal side, under half the "
+                                   "perimeter (default: a third of the perimeter, an "
+                                   "equilateral triangle); the two other sides share the rest "
+                                   "equally")
+    apex: Literal["up", "down"] = Field("up", description="up: the base at the bottom and the "
+                                        "opposite corner (the apex) on top; down: the base on "
+                                        "top and the apex at the bottom")
+    bottom_height: Length | None = quantity("length", default=None, gt=0, le=500.0,
+                                            description="Height of the loop's lowest point "
+                                            "(give this or 'top_height')")
+    top_height: Length | None = quantity("length", default=None, gt=0, le=500.0,
+                                         description="Height of the loop's highest point "
+                                         "(give this or 'bottom_height')")
+    feed: Literal["base-centre", "base-corner", "apex", "side-centre"] = Field(
+        "base-centre", description="Feed point: base-centre (middle of the base), base-corner "
+        "(the base's corner at -x), apex (the corner opposite the base) or side-centre "
+        "(middle of the sloping side at +x)")
+    wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
+
+    @model_validator(mode="after")
+    def _one_of(self) -> DeltaLoop:
+        _one_height(self)
+        return self
+
+
+class SquareLoop(Strict):
+    """A square loop in a vertical plane (x-z), its bottom side horizontal."""
+
+    shape: Literal["square-loop"]
+    side: Length = quantity("length", gt=0, le=500.0, description="Length of each of the four "
+                            "sides")
+    bottom_height: Length | None = quantity("length", default=None, gt=0, le=500.0,
+                                            description="Height of the bottom side (give this "
+                                            "or 'top_height')")
+    top_height: Length | None = quantity("length", default=None, gt=0, le=500.0,
+                                         description="Height of the top side (give this or "
+                                         "'bottom_height')")
+    feed: Literal["bottom-centre", "side-centre", "bottom-corner"] = Field(
+        "bottom-centre", description="Feed point: bottom-centre (middle of the bottom side), "
+        "side-centre (middle of the vertical side at +x) or bottom-corner (the bottom corner "
+        "at -x)")
+    wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
+
+    @model_validator(mode="after")
+    def _one_of(self) -> SquareLoop:
+        _one_height(self)
+        return self
+
+
+class HorizontalLoop(Strict):
+    """A horizontal loop shaped as a regular polygon, centred above x = y = 0."""
+
+    shape: Literal["horizontal-loop"]
+    sides: int = Field(4, ge=3, le=36, description="Number of equal sides: 3 a triangle, 4 a "
+                       "square, more come closer to a circle")
+    perimeter: Length = quantity("length", gt=0, le=2000.0,
+                                 description="Length of wire around the loop")
+    height: Length = quantity("length", gt=0, le=500.0, description="Height of the loop above "
+                              "ground")
+    feed: Literal["side-centre", "corner"] = Field(
+        "side-centre", description="Feed point: side-centre (middle of the side parallel to x "
+        "at the -y edge) or corner (that side's corner at -x)")
+    wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
+
+
+class Bend(Strict):
+    """Where a leg of a bent doublet changes direction, and how."""
+
+    position: Position = Field(..., description="Distance of the bend from the feed point "
+                               "along the leg: a fraction of the leg (0.6), a percentage "
+                               "('60 %') or a distance ('8 m'); strictly inside the leg",
+                               json_schema_extra={"unit": "fraction or m"})
+    turn: Angle = quantity("angle", default="0 deg", gt=-_HALF_TURN, lt=_HALF_TURN,
+                           description="Horizontal turn of the outer piece at the bend, seen "
+                           "from above: positive toward +y, negative toward -y (the same sign "
+                           "on both legs bends both ends to the same side); under 180 deg")
+    height: Length | None = quantity("length", default=None, ge=0, le=500.0,
+                                     description="Height of the bend (default: on the straight "
+                                     "line from the feed point to the leg's end)")
+
+
+class Leg(Strict):
+    """One leg of a bent doublet: one straight piece from the feed point, or two with a bend."""
+
+    length: Length = quantity("length", gt=0, le=1000.0,
+                              description="Length of the leg along the wire, from the feed "
+                              "point to its end")
+    end_height: Length | None = quantity("length", default=None, ge=0, le=500.0,
+                                         description="Height of the leg's end (default: the "
+                                         "feed point's height)")
+    bend: Bend | None = Field(None, description="Where the leg bends (default: a straight leg)")
+
+
+class BentDoublet(Strict):
+    """Two legs from a feed point, each straight or bent once; lengths and heights may differ."""
+
+    shape: Literal["bent-doublet"]
+    height: Length = quantity("length", gt=0, le=500.0,
+                              description="Height of the feed point, which stands above "
+                              "x = y = 0")
+    left: Leg = Field(..., description="The leg that leaves the feed point toward -x")
+    right: Leg = Field(..., description="The leg that leaves the feed point toward +x")
+    wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
+
+
 def _point(v: Any, info: ValidationInfo) -> tuple[float, float, float]:
     if not isinstance(v, (list, tuple)) or len(v) != 3:
         raise ValueError("a point is a list of three lengths [x, y, z], "
@@ -329,7 +483,8 @@ class WireList(Strict):
         return [w.name for w in self.wires].index(ref)
 
 
-Antenna = Annotated[Doublet | OffCentre | InvertedV | WireList,
+Antenna = Annotated[Doublet | OffCentre | InvertedV | WireList | Sloper | DeltaLoop
+                    | SquareLoop | HorizontalLoop | BentDoublet,
                     Field(discriminator="shape")]
 
 # ----------------------------------------------------------------------------

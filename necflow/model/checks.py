@@ -10,7 +10,7 @@ import math
 
 from necflow import limits
 from necflow.catalog.bands import resolve_bands
-from necflow.config.schema import Design, InvertedV, WireList
+from necflow.config.schema import DeltaLoop, Design, InvertedV, Sloper, SquareLoop, WireList
 from necflow.errors import ConfigError
 from necflow.model.clearance import clearance_problems
 from necflow.model.geometry import geometry
@@ -23,9 +23,13 @@ def check_geometry(design: Design, f_max_hz: float, *, density: float = 1.0,
     """Refuse a design whose wires cannot make a sound model.
 
     Checks, in order: inverted-V legs that cannot be placed (end height
-    above the apex, legs too short or reaching below ground); a feed
-    position off its wire; any wire point below ground (z < 0) when there is
-    a ground (an end exactly at z = 0 is a ground connection and allowed);
+    above the apex, legs too short or reaching below ground); a sloper whose
+    lower end cannot be placed or reaches below ground; a delta loop whose
+    base is too long for its perimeter, or a vertical loop hung from
+    'top_height' whose lowest point would be at or below ground; a bent
+    doublet's leg or bend that cannot be placed; a feed or bend position off
+    its wire; any wire point of a wire list below ground (z < 0) when there
+    is a ground (an end exactly at z = 0 is a ground connection and allowed);
     a model needing more than ``design.model.max_segments`` segments.  The
     segment count is plain arithmetic on the wire end points, so an
     oversized model is refused before any matrix exists.
@@ -49,12 +53,25 @@ def check_geometry(design: Design, f_max_hz: float, *, density: float = 1.0,
                           field="bands")
     grounded = design.ground.model != "free-space"
     a = design.antenna
-    spans, feed = geometry(design)  # raises for inverted-V legs and feed positions
+    spans, feed = geometry(design)  # raises for shapes that cannot be placed
     if grounded and isinstance(a, InvertedV):
         z_end = spans[0].start[2]
         if z_end < 0:
             raise ConfigError(f"legs of {a.leg:g} m at this droop reach {-z_end:.3g} m below "
                               f"ground from an apex at {a.apex_height:g} m", field="antenna.leg")
+    if grounded and isinstance(a, Sloper):
+        z_end = spans[0].end[2]
+        if z_end < 0:
+            raise ConfigError(f"a wire of {a.length:g} m at this slope reaches {-z_end:.3g} m "
+                              f"below ground from its top at {a.top_height:g} m",
+                              field="antenna.length")
+    if grounded and isinstance(a, (DeltaLoop, SquareLoop)):
+        z_low = min(min(w.start[2], w.end[2]) for w in spans)
+        if z_low <= 0:
+            where = "on the ground" if z_low == 0 else f"{-z_low:.3g} m below ground"
+            raise ConfigError(f"the loop is {a.top_height - z_low:.4g} m tall, so from its top "
+                              f"at {a.top_height:g} m its lowest point would be {where}; raise "
+                              "'top_height' or make the loop smaller", field="antenna.top_height")
     if grounded and isinstance(a, WireList):
         for i, w in enumerate(spans):
             for end in ("start", "end"):
