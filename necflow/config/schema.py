@@ -630,9 +630,9 @@ class TransformerElement(Strict):
         None, description="Current or voltage balun (default: current for a balun; ignored "
         "for an unun or transformer)", json_schema_extra={"default_text": "current (balun)"})
     choke: ChokeSpec | None = Field(
-        None, description="Common-mode impedance of the balun, used when the feed line is "
-        "modelled as a conductor (default: the catalog's current-balun for a current balun, "
-        "none otherwise)")
+        None, description="Common-mode impedance of the balun (or of a choke built into the "
+        "transformer), used when the feed line is modelled as a conductor (default: the "
+        "catalog's current-balun for a current balun, none otherwise)")
 
     @property
     def effective_balun_kind(self) -> str | None:
