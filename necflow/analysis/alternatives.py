@@ -114,6 +114,8 @@ def element_label(e) -> str:
         return f"{e.id}: {e.kind} {e.part} {e.value * scale:.4g} {unit}"
     if e.kind == "transformer":
         return f"{e.id}: {e.label} {e.ratio:.4g}:1"
+    if e.kind == "choke":
+        return f"{e.id}: common-mode choke"
     return e.id
 
 

@@ -39,15 +39,17 @@ class ElementStress:
     Attributes
     ----------
     id, kind : str
-        Element id and kind ('line', 'series', 'shunt', 'transformer').
+        Element id and kind ('line', 'series', 'shunt', 'transformer',
+        'choke').
     v_peak : ndarray
         Peak (instantaneous) voltage [V]: across a series part
         ``sqrt2 |V1 - V2|``, across a shunt part ``sqrt2 |V1|``, anywhere
-        along a line (differential), at either terminal of a transformer.
+        along a line (differential), at either terminal of a transformer or
+        a choke.
     i_rms : ndarray
         RMS current [A] through a part; the largest current anywhere along
         a line (a mismatched line's current peaks between its ends); the
-        larger terminal current of a transformer.
+        larger terminal current of a transformer or a choke.
     p_diss_w : ndarray
         Dissipated power [W].
     p_in_w, p_out_w : ndarray
@@ -235,6 +237,10 @@ def _stress(el, f, v1, i1, v2, i2, p_in, p_out) -> ElementStress:
         imax, ipos = tl.peak_current(gamma, zc, v2, i2, el.length)
         v_peak, i_rms = r2 * vmax, imax
     else:
+        # transformer, and choke: terminal figures.  A choke passes the
+        # differential mode unchanged (identity matrix), so its terminals
+        # agree and it dissipates nothing here; its common-mode current is
+        # not part of this model.
         v_peak, i_rms = r2 * np.maximum(av1, av2), np.maximum(ai1, ai2)
     return ElementStress(id=el.id, kind=el.kind, v_peak=v_peak, i_rms=i_rms,
                          p_diss_w=p_in - p_out, p_in_w=p_in, p_out_w=p_out,

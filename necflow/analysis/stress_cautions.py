@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from necflow.analysis.powerflow import SystemResponse
+from necflow.analysis.stress_table import THROUGH_POWER_KINDS
 
 _RATING_FIELDS = ("voltage_rating", "current_rating", "power_rating")
 
@@ -46,7 +47,7 @@ def cautions(system: SystemResponse, voltage_threshold: float | None = None,
         ``{id: {"voltage_rating": V, "current_rating": A, "power_rating": W}}``
         or the design's feed elements (read with :func:`ratings_of`).
         A part's power rating is compared with its dissipation, a
-        transformer's with the power passing through it.
+        transformer's and a choke's with the power passing through it.
 
     Returns
     -------
@@ -75,8 +76,9 @@ def cautions(system: SystemResponse, voltage_threshold: float | None = None,
             out.append(f"{eid}: RMS current {i:.2f} A at {fq / 1e6:.4g} MHz exceeds its "
                        f"{rate['current_rating']:.2f} A rating")
         if "power_rating" in rate:
-            p = s.p_in_w if s.kind == "transformer" else s.p_diss_w
-            what = "through-power" if s.kind == "transformer" else "dissipation"
+            through = s.kind in THROUGH_POWER_KINDS
+            p = s.p_in_w if through else s.p_diss_w
+            what = "through-power" if through else "dissipation"
             if np.nanmax(p) > rate["power_rating"]:
                 pw, fq = _worst(p, f)
                 out.append(f"{eid}: {what} {pw:.1f} W at {fq / 1e6:.4g} MHz exceeds its "

@@ -15,6 +15,10 @@ import numpy as np
 
 from necflow.analysis.powerflow import SystemResponse
 
+#: Element kinds whose power rating is compared with the power passing
+#: through them (their own dissipation is not what their rating states).
+THROUGH_POWER_KINDS = ("transformer", "choke")
+
 
 @dataclass(frozen=True)
 class StressRow:
@@ -76,7 +80,7 @@ def stress_rows(system: SystemResponse, ratings: dict, worst_power_w: float,
         rate = dict(ratings.get(eid, {}))
         got = {"voltage_rating": float(vw), "current_rating": float(iw),
                "power_rating": float(p_through(st, sel, p0, worst_power_w))
-               if st.kind == "transformer" else float(pw)}
+               if st.kind in THROUGH_POWER_KINDS else float(pw)}
         applicable = _applicable(st.kind)
         margin, notes = {}, []
         for name in applicable:
@@ -94,14 +98,14 @@ def stress_rows(system: SystemResponse, ratings: dict, worst_power_w: float,
 
 
 def p_through(st, sel, p0, p_to) -> float:
-    """Largest power through a transformer at power ``p_to`` [W]."""
+    """Largest power through a transformer or choke at power ``p_to`` [W]."""
     return float(np.max(st.p_in_w[sel]) * p_to / p0)
 
 
 def _applicable(kind: str) -> tuple[str, ...]:
     if kind == "line":
         return ("voltage_rating",)
-    if kind == "transformer":
+    if kind in THROUGH_POWER_KINDS:
         return ("voltage_rating", "power_rating")
     if kind in ("series", "shunt"):
         return ("voltage_rating", "current_rating", "power_rating")

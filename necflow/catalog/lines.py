@@ -88,6 +88,37 @@ def _range(freqs_hz) -> tuple[float, float]:
 
 
 @dataclass(frozen=True)
+class Construction:
+    """The physical build of a line, for modelling it as a conductor.
+
+    A two-wire line gives ``conductor_diameter`` and ``spacing`` (centre to
+    centre); a coax gives ``shield_diameter`` (the outside of the braid or
+    foil, where common-mode current flows) and, for reference,
+    ``jacket_diameter``.  Lengths in metres.
+
+    Attributes
+    ----------
+    conductor_diameter, spacing : float or None
+        Two-wire lines: wire diameter and centre spacing [m].
+    shield_diameter, jacket_diameter : float or None
+        Coax: outer diameter of the shield and of the jacket [m].
+    source : str
+        Where the dimensions come from, with its tag.
+    """
+
+    conductor_diameter: float | None = None
+    spacing: float | None = None
+    shield_diameter: float | None = None
+    jacket_diameter: float | None = None
+    source: str = ""
+
+    @property
+    def two_wire(self) -> bool:
+        """True for a two-wire construction (conductor and spacing given)."""
+        return self.conductor_diameter is not None and self.spacing is not None
+
+
+@dataclass(frozen=True)
 class LineType:
     """One kind of transmission line.
 
@@ -114,6 +145,9 @@ class LineType:
         Frequency span the data support [Hz].
     notes : str
         Assumptions made in the fit.
+    construction : Construction or None
+        Physical dimensions (conductors and spacing, or shield), None for a
+        custom line.
     """
 
     name: str
@@ -127,6 +161,7 @@ class LineType:
     k2: float = field(default=math.nan)
     valid_range_hz: tuple[float, float] = (math.nan, math.nan)
     notes: str = ""
+    construction: Construction | None = None
 
     def attenuation_db_per_m(self, f) -> np.ndarray:
         """Matched attenuation [dB/m] at frequencies ``f`` [Hz]."""
@@ -147,10 +182,12 @@ DB_PER_NP = 20.0 / math.log(10.0)
 
 
 def make_line_type(name: str, description: str, balanced: bool, z0: float, vf: float,
-                   data, source: str, notes: str = "") -> LineType:
+                   data, source: str, notes: str = "",
+                   construction: Construction | None = None) -> LineType:
     """Build a :class:`LineType` and fit its attenuation coefficients.
 
-    ``data`` holds (frequency [Hz], dB per 100 ft) points.
+    ``data`` holds (frequency [Hz], dB per 100 ft) points; ``construction``
+    the physical dimensions, when known.
     """
     pts = tuple((float(fq), float(db)) for fq, db in data)
     fq = np.array([p[0] for p in pts])
@@ -161,12 +198,13 @@ def make_line_type(name: str, description: str, balanced: bool, z0: float, vf: f
                  "loss scaling as sqrt(f)")
     return LineType(name=name, description=description, balanced=balanced, z0=float(z0),
                     velocity_factor=float(vf), data=pts, source=source, k1=k1, k2=k2,
-                    valid_range_hz=_range(fq), notes=notes)
+                    valid_range_hz=_range(fq), notes=notes, construction=construction)
 
 
 def custom_line_type(z0: float, vf: float, loss_points, name: str = "custom",
                      balanced: bool = False, description: str = "line described in the design",
-                     source: str = "design file") -> LineType:
+                     source: str = "design file",
+                     construction: Construction | None = None) -> LineType:
     """A line type from a design's custom line.
 
     Parameters
@@ -185,6 +223,9 @@ def custom_line_type(z0: float, vf: float, loss_points, name: str = "custom",
         when a design overrides its loss figures).
     description, source : str
         Shown in reports.
+    construction : Construction, optional
+        Physical dimensions (a catalog line's, when a design overrides only
+        its loss figures).
 
     Returns
     -------
@@ -199,7 +240,8 @@ def custom_line_type(z0: float, vf: float, loss_points, name: str = "custom",
         else:
             fq, db, per = p.frequency, p.db, p.per
         data.append((fq, db / per * FT100_M))
-    return make_line_type(name, description, balanced, z0, vf, data, source=source)
+    return make_line_type(name, description, balanced, z0, vf, data, source=source,
+                          construction=construction)
 
 
 def two_wire_conductor_loss_db_per_m(f, diameter: float, z0: float,
@@ -246,9 +288,27 @@ def two_wire_conductor_loss_db_per_m(f, diameter: float, z0: float,
 
 _MEM_COAX = "[memory] from memory of the ARRL Handbook coax table"
 
+# Physical dimensions: typical generic constructions; makers differ by a few
+# tenths of a millimetre.
+_MEM_TWIN = ("[memory] generic construction, from memory of makers' data for such line "
+             "(conductor gauge and spacing vary between makers)")
+_MEM_COAX_SIZE = ("[memory] generic construction, from memory of makers' data sheets for "
+                  "this designation (shield = outside of the braid or foil)")
+
+
+def _two_wire(d_mm: float, s_mm: float, source: str = _MEM_TWIN) -> Construction:
+    return Construction(conductor_diameter=d_mm / 1e3, spacing=s_mm / 1e3, source=source)
+
+
+def _coax(shield_mm: float, jacket_mm: float) -> Construction:
+    return Construction(shield_diameter=shield_mm / 1e3, jacket_diameter=jacket_mm / 1e3,
+                        source=_MEM_COAX_SIZE)
+
+
 # 600-ohm open wire: two 2.05 mm copper conductors (the 12-gauge size) spaced for
 # Z0 = 600 ohm (s/d = cosh(600/120) = 74.2, about 152 mm).
 _OW_D = 2.05e-3
+_OW_S = _OW_D * math.cosh(600.0 / 120.0)
 _OW_FREQS = (1.8e6, 3.5e6, 7.0e6, 14.0e6, 30.0e6)
 _OW_DATA = tuple((fq, float(two_wire_conductor_loss_db_per_m(fq, _OW_D, 600.0)) * FT100_M)
                  for fq in _OW_FREQS)
@@ -263,7 +323,9 @@ LINE_TYPES: dict[str, LineType] = {lt.name: lt for lt in (
         notes="Z0 390 ohm, not the nominal 450: measured values of this line fall at "
               "about 380-400 ohm, and the impedance a matching section transforms to "
               "depends on the real Z0. One figure only (dry line): all loss given to "
-              "the conductor term (k2 = 0); wet line loses more."),
+              "the conductor term (k2 = 0); wet line loses more.",
+        construction=_two_wire(1.3, 25.0, _MEM_TWIN + ": about 1.3 mm (AWG 16; AWG 18 to "
+                               "14 are sold) at about 25 mm")),
     make_line_type(
         "window-300", "nominal 300-ohm window line", True, 300.0, 0.90,
         [(29.0e6, 0.15 * 390.0 / 300.0)],
@@ -273,7 +335,9 @@ LINE_TYPES: dict[str, LineType] = {lt.name: lt for lt in (
                "(Pozar, Microwave Engineering 4th ed., ch. 2); VF 0.90 assumed as for "
                "the 450-ohm line",
         notes="One derived figure only: all loss given to the conductor term (k2 = 0). "
-              "Rough: no published table for this line was at hand."),
+              "Rough: no published table for this line was at hand.",
+        construction=_two_wire(1.3, 10.0, _MEM_TWIN + ": about 1.3 mm (AWG 16) at about "
+                               "10 mm")),
     make_line_type(
         "open-wire-600", "600-ohm open-wire line, 2.05 mm copper, about 152 mm spacing",
         True, 600.0, 0.98, _OW_DATA,
@@ -281,30 +345,38 @@ LINE_TYPES: dict[str, LineType] = {lt.name: lt for lt in (
                "alpha = R/(2 Z0) (Ramo, Whinnery and Van Duzer, Fields and Waves in "
                "Communication Electronics, ch. 5); VF 0.98 is common practice "
                "for spacer-supported line",
-        notes="Conductor loss only (spacers, radiation and wet weather add loss): k2 = 0."),
+        notes="Conductor loss only (spacers, radiation and wet weather add loss): k2 = 0.",
+        construction=_two_wire(_OW_D * 1e3, _OW_S * 1e3,
+                               "[derived] 2.05 mm (AWG 12) wire, spacing from Z0 = 120 "
+                               "acosh(s/d) = 600 ohm in air (from memory of the ARRL Antenna "
+                               "Book, transmission-line chapter): s = 152 mm")),
     make_line_type(
         "twin-lead-300", "300-ohm ribbon twin-lead", True, 300.0, 0.80, [(28.0e6, 0.55)],
         source="[memory] about 0.55 dB/100 ft at 28 MHz, VF about 0.80",
         notes="One figure only: all loss given to the conductor term (k2 = 0), a "
-              "stated assumption (the small conductors dominate at HF)."),
+              "stated assumption (the small conductors dominate at HF).",
+        construction=_two_wire(1.0, 10.0, _MEM_TWIN + ": stranded conductors of about "
+                               "1 mm at about 10 mm in a polyethylene ribbon")),
     make_line_type(
         "rg-58", "50-ohm coax, solid polyethylene, 5 mm", False, 50.0, 0.66,
         [(10.0e6, 1.3), (30.0e6, 2.5)], source=_MEM_COAX + " (10 MHz: 1.2-1.4 dB, "
-        "mid value used; 30 MHz: 2.5 dB per 100 ft)"),
+        "mid value used; 30 MHz: 2.5 dB per 100 ft)", construction=_coax(3.6, 4.95)),
     make_line_type(
         "rg-8x", "50-ohm coax, foam polyethylene, 6 mm", False, 50.0, 0.80,
-        [(10.0e6, 1.0), (30.0e6, 2.0)], source=_MEM_COAX + " (VF 0.78-0.82, mid value)"),
+        [(10.0e6, 1.0), (30.0e6, 2.0)], source=_MEM_COAX + " (VF 0.78-0.82, mid value)",
+        construction=_coax(4.6, 6.1)),
     make_line_type(
         "rg-213", "50-ohm coax, solid polyethylene, 10 mm", False, 50.0, 0.66,
-        [(1.0e6, 0.2), (10.0e6, 0.6), (30.0e6, 1.1), (100.0e6, 1.9)], source=_MEM_COAX),
+        [(1.0e6, 0.2), (10.0e6, 0.6), (30.0e6, 1.1), (100.0e6, 1.9)], source=_MEM_COAX,
+        construction=_coax(8.3, 10.3)),
     make_line_type(
         "rg-8-foam", "50-ohm coax, foam polyethylene, 10 mm", False, 50.0, 0.80,
         [(10.0e6, 0.5)], source=_MEM_COAX + " (VF 0.78-0.80)",
         notes="One figure only: all loss given to the conductor term (k2 = 0), "
-              "reasonable for foam dielectric at HF."),
+              "reasonable for foam dielectric at HF.", construction=_coax(8.1, 10.3)),
     make_line_type(
         "rg-59", "75-ohm coax, solid polyethylene, 6 mm", False, 75.0, 0.66,
-        [(10.0e6, 1.1), (30.0e6, 1.8)], source=_MEM_COAX),
+        [(10.0e6, 1.1), (30.0e6, 1.8)], source=_MEM_COAX, construction=_coax(4.4, 6.15)),
 )}
 
 
@@ -332,6 +404,60 @@ def resolve_line_type(line: str, impedance: float | None = None,
     if loss is not None:
         return custom_line_type(z0, vf, loss, name=base.name, balanced=bal,
                                 description=base.description + " (loss from the design file)",
-                                source="design file (loss); " + base.source)
+                                source="design file (loss); " + base.source,
+                                construction=base.construction)
     return make_line_type(base.name, base.description, bal, z0, vf, base.data,
-                          base.source, base.notes)
+                          base.source, base.notes, base.construction)
+
+
+def common_mode_radius(line_type: LineType | str) -> float:
+    """Radius [m] of the single wire that stands for a feed line carrying
+    common-mode current.
+
+    Parameters
+    ----------
+    line_type : LineType or str
+        A line type, or the name of a catalog line.
+
+    Returns
+    -------
+    float
+        Coax: the outer radius of the shield (common-mode current flows on
+        the outside of the shield; the jacket carries none).  Two-wire line:
+        the equivalent radius of the pair, ``sqrt(a s)`` with ``a`` the
+        conductor radius and ``s`` the centre spacing, the radius of one wire
+        with the same capacitance per unit length as the two wires at one
+        potential.
+
+    Raises
+    ------
+    KeyError
+        For a name not in the catalog.
+    ValueError
+        For a line type with no physical data (a custom line).
+
+    Notes
+    -----
+    The equivalent radius of two parallel conductors of radii ``a1``, ``a2``
+    at spacing ``s`` is ``ln ae = ln a1 + [a2^2 ln(a2/a1) + 2 a1 a2 ln(s/a1)]
+    / (a1 + a2)^2``; with equal radii it is the geometric mean ``sqrt(a s)``.
+    It holds when the spacing is several radii or more (proximity effect
+    neglected) and the pair is thin beside the wavelength.
+
+    References
+    ----------
+    .. [1] From memory of C. A. Balanis, *Antenna Theory*, 3rd ed., Wiley
+       2005, sec. 9.5 (folded dipole: equivalent radius of two parallel
+       conductors).
+    """
+    lt = LINE_TYPES[line_type] if isinstance(line_type, str) else line_type
+    c = lt.construction
+    if c is None:
+        raise ValueError(f"line type '{lt.name}' has no physical data (conductors, spacing or "
+                         "shield); its common-mode radius is unknown")
+    if c.two_wire:
+        return math.sqrt(0.5 * c.conductor_diameter * c.spacing)
+    if c.shield_diameter is not None:
+        return 0.5 * c.shield_diameter
+    raise ValueError(f"line type '{lt.name}' gives neither conductors and spacing nor a shield "
+                     "diameter")

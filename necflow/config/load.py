@@ -20,6 +20,7 @@ from pydantic import ValidationError
 
 from necflow import limits
 from necflow.catalog.bands import TABLES, resolve_bands, unknown_band_message
+from necflow.catalog.chokes import CHOKE_TYPES
 from necflow.catalog.grounds import SURFACES
 from necflow.catalog.lines import LINE_TYPES, resolve_line_type
 from necflow.config.messages import (  # noqa: F401  (re-exported)
@@ -421,8 +422,9 @@ def at_field(exc: ConfigError | ModelError, file: str, lines: Lines) -> ConfigEr
 
 
 def _semantic_problems(design: Design) -> list[tuple[str, tuple | None]]:
-    """Names that must exist in the catalogs (bands, line types, surfaces),
-    and lines that lose more than anything could pass."""
+    """Names that must exist in the catalogs (bands, line types, chokes,
+    surfaces), lines that lose more than anything could pass, and measured
+    choke points that do not cover the bands."""
     out: list[tuple[str, tuple | None]] = []
     for i, b in enumerate(design.bands):
         if b.low is None and b.name not in TABLES[design.region].edges:
@@ -438,13 +440,46 @@ def _semantic_problems(design: Design) -> list[tuple[str, tuple | None]]:
         out.append((f"'{remote}' is not an unbalanced catalog line; "
                     f"{did_you_mean(remote, coax)}expected one of {', '.join(coax)}",
                     ("report", "tuner", "remote_line")))
+    for path, spec in _chokes(design):
+        name = spec.catalog
+        if name is not None and name not in CHOKE_TYPES:
+            out.append((f"unknown choke '{name}'; {did_you_mean(name, CHOKE_TYPES)}expected one "
+                        f"of {', '.join(CHOKE_TYPES)}", path + ("catalog",)))
     if not out:
         out += _line_loss_problems(design)
+        out += _choke_span_problems(design)
     s = design.ground.surface
     if s is not None and s not in SURFACES:
         out.append((f"unknown ground surface '{s}'; {did_you_mean(s, SURFACES)}expected one of "
                     f"{', '.join(SURFACES)}, or give permittivity and conductivity",
                     ("ground", "surface")))
+    return out
+
+
+def _chokes(design: Design) -> list[tuple[tuple, Any]]:
+    """(path of the choke, ChokeSpec) of every choke a design gives: choke
+    elements and transformers' chokes, in the feed and in the alternatives."""
+    feeds = [(("feed",), design.feed)]
+    feeds += [(("report", "alternatives", j, "feed"), a.feed)
+              for j, a in enumerate(design.report.alternatives)]
+    return [(prefix + (i, "choke"), e.choke) for prefix, feed in feeds
+            for i, e in enumerate(feed) if getattr(e, "choke", None) is not None]
+
+
+def _choke_span_problems(design: Design) -> list[tuple[str, tuple | None]]:
+    """Measured choke points must cover every band: outside them the
+    impedance is unknown (a ferrite choke's falls on both sides of its
+    resistive region, so holding the end values would overstate it)."""
+    bands = resolve_bands(design)
+    f_lo, f_hi = min(b.low_hz for b in bands), max(b.high_hz for b in bands)
+    out: list[tuple[str, tuple | None]] = []
+    for path, spec in _chokes(design):
+        span = spec.span_hz
+        if span is not None and not (span[0] <= f_lo and f_hi <= span[1]):
+            out.append((f"the measured points span {span[0] / 1e6:g}-{span[1] / 1e6:g} MHz but "
+                        f"the bands reach {f_lo / 1e6:g}-{f_hi / 1e6:g} MHz; give points "
+                        "across every band (outside its points a choke's impedance is "
+                        "unknown)", path + ("points",)))
     return out
 
 

@@ -20,7 +20,7 @@ from pydantic import BaseModel, Discriminator, Tag, ValidationError
 from pydantic.fields import FieldInfo
 
 from necflow import units
-from necflow.config.schema import Design
+from necflow.config.schema import ELEMENT_KEYS, Design
 from necflow.errors import ConfigError
 
 Lines = dict[tuple, int]
@@ -234,7 +234,7 @@ def _message(err: dict, data: Any) -> tuple[str, tuple]:
     if etype == "element_kind":
         keys = [k for k in given if isinstance(k, str)] if isinstance(given, dict) else []
         for k in keys:
-            close = difflib.get_close_matches(k, ["line", "series", "shunt", "transformer"], n=1)
+            close = difflib.get_close_matches(k, list(ELEMENT_KEYS), n=1)
             if close:
                 return f"{err['msg']}; did you mean '{close[0]}' instead of '{k}'?", path
         return f"{err['msg']}; got keys {', '.join(map(str, keys)) or '(none)'}", path
@@ -261,9 +261,9 @@ def _message(err: dict, data: Any) -> tuple[str, tuple]:
         n = ctx.get("min_length", 1)
         if etype == "string_too_short":
             return "must not be empty; expected some text", path
-        return f"needs at least {n} entr{'y' if n == 1 else 'ies'}, got {describe(given)}" \
-            if not isinstance(given, list) or given else \
-            f"needs at least {n} entr{'y' if n == 1 else 'ies'}, got none", path
+        got = (describe(given) if not isinstance(given, list)
+               else str(len(given)) if given else "none")
+        return f"needs at least {n} entr{'y' if n == 1 else 'ies'}, got {got}", path
     kind = _expected_kind(etype)
     if kind:
         hint = "; put text in quotes" if kind == "text" and given is not None else ""

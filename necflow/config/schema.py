@@ -32,6 +32,7 @@ from pydantic import (
 )
 
 from necflow import limits, units
+from necflow.catalog.chokes import CHOKE_TYPES, DEFAULT_BALUN_CHOKE
 from necflow.config.sections import CostSpec, SearchParam, ToleranceSpec
 
 # ----------------------------------------------------------------------------
@@ -87,6 +88,8 @@ def quantity(dimension: str, *, default: Any = ..., unit: str | None = None,
 Length = Annotated[float, BeforeValidator(_to_si("length"))]
 Frequency = Annotated[float, BeforeValidator(_to_si("frequency"))]
 Resistance = Annotated[float, BeforeValidator(_to_si("resistance"))]
+Inductance = Annotated[float, BeforeValidator(_to_si("inductance"))]
+Capacitance = Annotated[float, BeforeValidator(_to_si("capacitance"))]
 Power = Annotated[float, BeforeValidator(_to_si("power"))]
 Conductivity = Annotated[float, BeforeValidator(_to_si("conductivity"))]
 Voltage = Annotated[float, BeforeValidator(_to_si("voltage"))]
@@ -585,6 +588,68 @@ class LineElement(Strict):
         return self
 
 
+# Common-mode chokes
+
+
+class ChokePoint(Strict):
+    """One measured common-mode impedance of a choke."""
+
+    frequency: Frequency = quantity("frequency", gt=0, le=10e9,
+                                    description="Frequency of the measurement")
+    r: Resistance = quantity("resistance", ge=0, le=1e6,
+                             description="Resistance (real part of the common-mode impedance)")
+    x: Resistance = quantity("resistance", ge=-1e6, le=1e6,
+                             description="Reactance (imaginary part; positive inductive)")
+
+
+class ParallelRLC(Strict):
+    """A choke as R, L and C in parallel (the usual model of a ferrite choke)."""
+
+    r: Resistance = quantity("resistance", unit="kohm", ge=1.0, le=1e6,
+                             description="Parallel resistance: the impedance at resonance")
+    l: Inductance = quantity("inductance", ge=1e-9, le=10e-3,
+                             description="Parallel inductance")
+    c: Capacitance = quantity("capacitance", ge=0.01e-12, le=10e-9,
+                              description="Parallel capacitance")
+
+
+CHOKE_FORMS = ("catalog", "points", "parallel")
+
+
+class ChokeSpec(Strict):
+    """A common-mode choke: a catalog name, measured points, or a parallel R-L-C."""
+
+    catalog: str | None = Field(None, description="Choke from the catalog: "
+                                + ", ".join(CHOKE_TYPES))
+    points: list[ChokePoint] | None = Field(
+        None, min_length=2, max_length=200, description="Measured common-mode impedance, "
+        "interpolated in log frequency; the design's bands must lie within them")
+    parallel: ParallelRLC | None = Field(None, description="Parallel R-L-C: "
+                                         "Z = 1 / (1/R + 1/(jwL) + jwC)")
+
+    @model_validator(mode="after")
+    def _one_form(self) -> ChokeSpec:
+        given = [k for k in CHOKE_FORMS if getattr(self, k) is not None]
+        if len(given) != 1:
+            raise ValueError("give exactly one of 'catalog', 'points' and 'parallel'"
+                             + (f", not {' and '.join(repr(k) for k in given)}" if given else ""))
+        if self.points is not None:
+            dup = _duplicates(p.frequency for p in self.points)
+            if dup:
+                raise ValueError(f"points: {units.format_quantity(dup[0], 'frequency')} is "
+                                 "given twice; expected one point per frequency")
+        return self
+
+    @property
+    def span_hz(self) -> tuple[float, float] | None:
+        """Lowest and highest frequency of measured points [Hz]; None for the
+        other forms (valid at any frequency)."""
+        if self.points is None:
+            return None
+        f = [p.frequency for p in self.points]
+        return min(f), max(f)
+
+
 PART_KINDS = {"capacitor": "capacitance", "inductor": "inductance", "resistor": "resistance"}
 #: Plausible values of each part [F, H, ohm].
 PART_RANGES = {"capacitor": (0.01e-12, 100e-6), "inductor": (1e-9, 100e-3),
@@ -716,15 +781,57 @@ class TransformerElement(Strict):
                                               description="Peak voltage rating")
     power_rating: Power | None = quantity("power", default=None, gt=0, le=1e6,
                                           description="Power rating")
+    balun_kind: Literal["current", "voltage"] | None = Field(
+        None, description="Current or voltage balun (default: current for a balun; ignored "
+        "for an unun or transformer)", json_schema_extra={"default_text": "current (balun)"})
+    choke: ChokeSpec | None = Field(
+        None, description="Common-mode impedance of the balun (or of a choke built into the "
+        "transformer), used when the feed line is modelled as a conductor (default: the "
+        "catalog's current-balun for a current balun, none otherwise)")
+
+    @property
+    def effective_balun_kind(self) -> str | None:
+        """'current' or 'voltage' for a balun (current unless given), else None."""
+        if self.transformer != "balun":
+            return None
+        return self.balun_kind or "current"
+
+    @property
+    def common_mode_choke(self) -> ChokeSpec | None:
+        """The choke given, else the catalog's current-balun choke for a
+        current balun, else None."""
+        if self.choke is not None:
+            return self.choke
+        if self.effective_balun_kind == "current":
+            return ChokeSpec(catalog=DEFAULT_BALUN_CHOKE)
+        return None
+
+
+class ChokeElement(Strict):
+    """A common-mode choke on the feed line (passes the differential mode unchanged)."""
+
+    id: str = Field(..., description="Unique name of the element")
+    choke: ChokeSpec = Field(..., description="Its common-mode impedance: catalog, points or "
+                             "parallel; used when the feed line is modelled as a conductor")
+    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0, le=1e6,
+                                              description="Peak voltage rating")
+    power_rating: Power | None = quantity("power", default=None, gt=0, le=1e6,
+                                          description="Power rating, compared with the power "
+                                          "passing through (as for a transformer)")
+
+
+#: The keys that say what a feed element is, in the order they are looked for
+#: (a transformer may carry a 'choke' key of its own).
+ELEMENT_KEYS = ("line", "series", "shunt", "transformer", "choke")
 
 
 def _element_tag(v: Any) -> str | None:
     if isinstance(v, dict):
-        for key in ("line", "series", "shunt", "transformer"):
+        for key in ELEMENT_KEYS:
             if key in v:
                 return "part" if key in ("series", "shunt") else key
         return None
-    for key, tag in (("line", "line"), ("transformer", "transformer")):
+    for key, tag in (("line", "line"), ("transformer", "transformer"), ("choke", "choke")):
         if hasattr(v, key) and getattr(v, key) is not None:
             return tag
     return "part"
@@ -732,10 +839,11 @@ def _element_tag(v: Any) -> str | None:
 
 Element = Annotated[Annotated[LineElement, Tag("line")]
                     | Annotated[PartElement, Tag("part")]
-                    | Annotated[TransformerElement, Tag("transformer")],
+                    | Annotated[TransformerElement, Tag("transformer")]
+                    | Annotated[ChokeElement, Tag("choke")],
                     Discriminator(_element_tag, custom_error_type="element_kind",
                                   custom_error_message="an element needs one of 'line', "
-                                  "'series', 'shunt' or 'transformer'")]
+                                  "'series', 'shunt', 'transformer' or 'choke'")]
 
 
 # ----------------------------------------------------------------------------

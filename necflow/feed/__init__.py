@@ -1,5 +1,12 @@
-"""The feed chain as ABCD two-ports: lines, lumped parts, transformers."""
+"""The feed chain as ABCD two-ports: lines, lumped parts, transformers, chokes."""
 
-from necflow.feed.chain import FeedChain, LineSection, LumpedPart, Transformer, build_chain
+from necflow.feed.chain import (
+    Choke,
+    FeedChain,
+    LineSection,
+    LumpedPart,
+    Transformer,
+    build_chain,
+)
 
-__all__ = ["FeedChain", "LineSection", "LumpedPart", "Transformer", "build_chain"]
+__all__ = ["Choke", "FeedChain", "LineSection", "LumpedPart", "Transformer", "build_chain"]

@@ -10,7 +10,8 @@ come from :mod:`necflow.feed.power`, the routine
 
 Fields a variant may change (``(element id, field)``, field names of the
 design file): a line's ``length`` and catalog ``line`` type, a part's
-``value``, ``q`` and ``esr``, a transformer's ``ratio`` and ``loss``.
+``value``, ``q`` and ``esr``, a transformer's ``ratio`` and ``loss`` (a choke:
+none; its matrix is the identity).
 """
 
 from __future__ import annotations
@@ -25,7 +26,7 @@ from necflow.feed.chain import FeedChain, LineSection
 
 #: Fields of each element kind that :class:`FeedBatch` varies in numpy.
 SUPPORTED = {"line": {"length", "line"}, "series": {"value", "q", "esr"},
-             "shunt": {"value", "q", "esr"}, "transformer": {"ratio", "loss"}}
+             "shunt": {"value", "q", "esr"}, "transformer": {"ratio", "loss"}, "choke": set()}
 
 #: Design-file field -> element attribute, where the two differ.
 _ATTRIBUTE = {"line": "line_type", "loss": "loss_db"}

@@ -3,7 +3,8 @@
 :func:`build_chain` reads ``design.feed`` (listed from the antenna toward the
 radio) and returns a :class:`FeedChain` whose elements each give their ABCD
 array for a frequency vector.  The physics lives in :mod:`necflow.feed.line`,
-:mod:`necflow.feed.lumped` and :mod:`necflow.feed.transformer`.
+:mod:`necflow.feed.lumped`, :mod:`necflow.feed.transformer` and
+:mod:`necflow.feed.choke`.
 """
 
 from __future__ import annotations
@@ -15,10 +16,12 @@ from typing import Any
 
 import numpy as np
 
+from necflow.catalog.chokes import CHOKE_TYPES, ChokeType
 from necflow.catalog.lines import LINE_TYPES, LineType, resolve_line_type
 from necflow.errors import ConfigError, NecflowWarning
 from necflow.feed import line as tl
 from necflow.feed import twoport
+from necflow.feed.choke import choke_impedance
 from necflow.feed.lumped import part_abcd, part_impedance
 from necflow.feed.transformer import transformer_abcd
 
@@ -148,6 +151,11 @@ class Transformer:
 
     ``ratio`` and ``loss_db`` may be arrays of the variant axes (``(nvar,)``
     for one axis): :meth:`abcd` is then ``(..., nfreq, 2, 2)``.
+
+    ``balun_kind`` ('current' or 'voltage', None for an unun or transformer)
+    and ``choke`` (its common-mode impedance, a ``ChokeSpec``, None for
+    none) matter only when the feed line is modelled as a conductor; the
+    differential-mode matrix does not depend on them.
     """
 
     id: str
@@ -156,6 +164,8 @@ class Transformer:
     r_radio: float = 50.0
     label: str = "transformer"
     loss_model: str = "series"
+    balun_kind: str | None = None
+    choke: Any = None
     kind: str = field(default="transformer", init=False)
 
     @property
@@ -168,7 +178,40 @@ class Transformer:
         return transformer_abcd(f, self.ratio, self.loss_db, self.r_radio, self.loss_model)
 
 
-FeedElement = LineSection | LumpedPart | Transformer
+@dataclass(frozen=True)
+class Choke:
+    """A common-mode choke on the feed line.
+
+    To the differential mode it is a through connection: :meth:`abcd` is the
+    identity.  Its common-mode impedance (:meth:`common_mode_impedance`)
+    acts only on current on the outside of the line, when the line is
+    modelled as a conductor.
+    """
+
+    id: str
+    spec: Any               # ChokeSpec, catalog ChokeType or catalog name
+    kind: str = field(default="choke", init=False)
+
+    @property
+    def metadata(self) -> dict[str, Any]:
+        s = self.spec
+        if isinstance(s, str):
+            return {"choke": s}
+        if isinstance(s, ChokeType):
+            return {"choke": s.name}
+        form = next(k for k in ("catalog", "points", "parallel") if getattr(s, k) is not None)
+        return {"choke": s.catalog if form == "catalog" else form}
+
+    def abcd(self, f) -> np.ndarray:
+        """The identity, ``(nfreq, 2, 2)`` (broadcasts over variant axes)."""
+        return twoport.identity(np.atleast_1d(np.asarray(f, dtype=float)).size)
+
+    def common_mode_impedance(self, f) -> np.ndarray:
+        """``Z_cm`` [ohm], ``(nfreq,)``; see :func:`necflow.feed.choke.choke_impedance`."""
+        return choke_impedance(f, self.spec)
+
+
+FeedElement = LineSection | LumpedPart | Transformer | Choke
 
 
 @dataclass(frozen=True)
@@ -213,13 +256,22 @@ def _line_type(el, i: int) -> LineType:
                           + ", ".join(LINE_TYPES) + ", custom", field=f"feed[{i}].line") from None
 
 
+def _choke_spec(spec, field_path: str):
+    """A design's ChokeSpec, its catalog name checked."""
+    name = getattr(spec, "catalog", None)
+    if name is not None and name not in CHOKE_TYPES:
+        raise ConfigError(f"unknown choke '{name}'; catalog chokes are: "
+                          + ", ".join(CHOKE_TYPES), field=field_path + ".catalog")
+    return spec
+
+
 def build_chain(feed: Sequence[Any], r_radio: float = 50.0) -> FeedChain:
     """Turn a design's feed list into a :class:`FeedChain`.
 
     Parameters
     ----------
     feed : sequence
-        ``LineElement | PartElement | TransformerElement`` from
+        ``LineElement | PartElement | TransformerElement | ChokeElement`` from
         :mod:`necflow.config.schema`, listed from the antenna toward the radio.
         An empty list is a direct feed.
     r_radio : float
@@ -229,18 +281,24 @@ def build_chain(feed: Sequence[Any], r_radio: float = 50.0) -> FeedChain:
     Raises
     ------
     ConfigError
-        Unknown line type (``field='feed[i].line'``, ``i`` from 0).
+        Unknown line type (``field='feed[i].line'``, ``i`` from 0) or choke
+        (``field='feed[i].choke.catalog'``).
     """
     out: list[FeedElement] = []
     for i, el in enumerate(feed):
         if hasattr(el, "line") and getattr(el, "line", None) is not None:
             out.append(LineSection(el.id, _line_type(el, i), el.length))
         elif hasattr(el, "transformer"):
+            choke = el.common_mode_choke
             out.append(Transformer(el.id, el.ratio, el.loss, r_radio, el.transformer,
-                                   el.loss_model))
+                                   el.loss_model, el.effective_balun_kind,
+                                   None if choke is None
+                                   else _choke_spec(choke, f"feed[{i}].choke")))
         elif getattr(el, "series", None) or getattr(el, "shunt", None):
             out.append(LumpedPart(el.id, el.placement, el.kind, el.value, el.q, el.esr))
+        elif getattr(el, "choke", None) is not None:
+            out.append(Choke(el.id, _choke_spec(el.choke, f"feed[{i}].choke")))
         else:
-            raise ConfigError("an element needs one of 'line', 'series', 'shunt' or "
-                              "'transformer'", field=f"feed[{i}]")
+            raise ConfigError("an element needs one of 'line', 'series', 'shunt', "
+                              "'transformer' or 'choke'", field=f"feed[{i}]")
     return FeedChain(tuple(out))

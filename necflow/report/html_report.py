@@ -21,6 +21,11 @@ from necflow.report.report_data import read_report_data
 
 FILE_NAME = "report.html"
 
+#: Column of the alternatives table each element kind's loss adds to (the
+#: others have a column of their own name); a choke goes with the
+#: transformers and baluns.
+_LOSS_COLUMN = {"series": "part", "shunt": "part", "choke": "transformer"}
+
 CSS = """
 body{font-family:sans-serif;font-size:10.5pt;margin:1.5em auto;max-width:70em;color:#111}
 h1{font-size:17pt;margin-bottom:.2em} h2{font-size:13pt;border-bottom:1px solid #888;
@@ -66,7 +71,7 @@ def _stress_cautions(report: dict) -> list[str]:
         for note in r["notes"]:
             if "exceeded" in note:
                 out.append(f"{r['id']}: {note}")
-            elif r["kind"] in ("series", "shunt", "transformer"):
+            elif r["kind"] in ("series", "shunt", "transformer", "choke"):
                 missing.append(f"{r['id']} ({note.replace('no ', '').replace(' given', '')})")
     if missing:
         out.append("no rating given for " + ", ".join(missing) + ": the stress table shows "
@@ -191,7 +196,7 @@ def _alternatives(report: dict) -> str:
                 if term in ("mismatch", "total") or v is None:
                     continue
                 k = kinds.get(term, "line")
-                by["part" if k in ("series", "shunt") else k] += v
+                by[_LOSS_COLUMN.get(k, k)] += v
             note = ""
             if "tuner" in d:
                 t = d["tuner"]

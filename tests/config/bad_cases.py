@@ -206,7 +206,7 @@ BAD_CASES: list[BadCase] = [
             "duplicate element id"),
     BadCase("element-without-kind", _edit("{id: coax, line: rg-213, length: 20 m}",
                                           "{id: coax, length: 20 m}"),
-            14, "feed[3]", "needs one of 'line', 'series', 'shunt' or 'transformer'"),
+            14, "feed[3]", "needs one of 'line', 'series', 'shunt', 'transformer' or 'choke'"),
     BadCase("element-kind-typo", _edit("series: capacitor", "seriez: capacitor"), 12, "feed[1]",
             "did you mean 'series'"),
     BadCase("unknown-line-type", _edit("line: rg-213", "line: rg-214"), 14, "feed[3].line",
@@ -223,6 +223,36 @@ BAD_CASES: list[BadCase] = [
             "give 'q' or 'esr', not both"),
     BadCase("ratio-malformed", _edit('ratio: "1:1"', 'ratio: "4-1"'), 13, "feed[2].ratio",
             "write it as '4:1'"),
+    # --- common-mode chokes
+    BadCase("choke-unknown-catalog", _edit("radio:", "  - {id: ch, choke: {catalog: "
+                                           "beads-on-coaks}}\nradio:"),
+            15, "feed[4].choke.catalog", "unknown choke 'beads-on-coaks'; did you mean "
+            "'beads-on-coax'?"),
+    BadCase("choke-two-forms", _edit("radio:", "  - {id: ch, choke: {catalog: beads-on-coax, "
+                                     "parallel: {r: 4 kohm, l: 150 uH, c: 2.7 pF}}}\nradio:"),
+            15, "feed[4].choke", "give exactly one of 'catalog', 'points' and 'parallel'"),
+    BadCase("choke-resistance-too-low", _edit("radio:", "  - {id: ch, choke: {parallel: "
+                                              "{r: 0.5 ohm, l: 150 uH, c: 2.7 pF}}}\nradio:"),
+            15, "feed[4].choke.parallel.r", "must be at least"),
+    BadCase("choke-capacitance-in-henries", _edit("radio:", "  - {id: ch, choke: {parallel: "
+                                                  "{r: 4 kohm, l: 150 uH, c: 2.7 uH}}}\n"
+                                                  "radio:"),
+            15, "feed[4].choke.parallel.c", "not a capacitance"),
+    BadCase("choke-points-miss-a-band", _edit(
+        "radio:", "  - {id: ch, choke: {points: [{frequency: 10 MHz, r: 2 kohm, x: 0 ohm}, "
+        "{frequency: 20 MHz, r: 3 kohm, x: -1 kohm}]}}\nradio:"),
+        15, "feed[4].choke.points", "give points across every band"),
+    BadCase("choke-kind-typo", _edit("radio:", "  - {id: ch, chok: {catalog: beads-on-coax}}\n"
+                                     "radio:"),
+            15, "feed[4]", "did you mean 'choke'"),
+    BadCase("alternative-choke-unknown", BASE + "report:\n  alternatives:\n    - name: choked\n"
+            "      feed:\n        - {id: c1, choke: {catalog: beads-on-coks}}\n", 20,
+            "report.alternatives[0].feed[0].choke.catalog", "did you mean 'beads-on-coax'?"),
+    BadCase("balun-kind-typo", _edit('ratio: "1:1"}', 'ratio: "1:1", balun_kind: curent}'), 13,
+            "feed[2].balun_kind", "did you mean 'current'?"),
+    BadCase("balun-choke-unknown", _edit('ratio: "1:1"}', 'ratio: "1:1", choke: {catalog: '
+                                         'current-baloon}}'), 13,
+            "feed[2].choke.catalog", "did you mean 'current-balun'?"),
     # --- study keys
     BadCase("search-range-one-value", BASE + "search:\n  antenna.span: [22 m]\n", 17,
             "search[antenna.span]", "a range is two values [low, high]"),
