@@ -139,7 +139,7 @@ class SystemResponse:
     stress: dict[str, ElementStress]
 
 
-def _db(num, den) -> np.ndarray:
+def db_ratio(num, den) -> np.ndarray:
     """``10 log10(num/den)``; ``inf`` where nothing (or, by rounding, less than
     nothing) comes out, e.g. into a purely reactive load."""
     num, den = np.asarray(num, dtype=float), np.asarray(den, dtype=float)
@@ -201,13 +201,13 @@ def analyse(chain: FeedChain, f, z_feedpoint, z_ref: float = 50.0,
 
     ids = tuple(chain.ids)
     p_diss: dict[str, np.ndarray] = {}
-    loss: dict[str, np.ndarray] = {"mismatch": _db(p_avail, node_p[:, 0])}
+    loss: dict[str, np.ndarray] = {"mismatch": db_ratio(p_avail, node_p[:, 0])}
     stress: dict[str, ElementStress] = {}
     for k, el in enumerate(reversed(chain.elements)):
         v1, i1, v2, i2 = node_v[:, k], node_i[:, k], node_v[:, k + 1], node_i[:, k + 1]
         p_in, p_out = node_p[:, k], node_p[:, k + 1]
         p_diss[el.id] = p_in - p_out
-        loss[el.id] = _db(p_in, p_out)
+        loss[el.id] = db_ratio(p_in, p_out)
         stress[el.id] = _stress(el, f, v1, i1, v2, i2, p_in, p_out)
     loss["total"] = power.total_loss_db(fraction)
     # Present dissipation and losses in design order (antenna side first).

@@ -35,11 +35,13 @@ import numpy as np
 
 from necflow.analysis import analyse
 from necflow.analysis import cautions as find_cautions
+from necflow.analysis.common_mode import CommonMode, common_mode, with_common_mode
 from necflow.catalog.bands import Band, resolve_bands
 from necflow.chain.evaluation import Evaluation
 from necflow.config.fields import GEOMETRY_ROOTS, apply
 from necflow.config.schema import Design
 from necflow.engine.far_field import FarField, average_gain_test, far_field
+from necflow.engine.pynec_adapter import load_impedance
 from necflow.engine.response import ResponseCache, Solver
 from necflow.errors import RulesBroken
 from necflow.feed import FeedChain, build_chain
@@ -202,11 +204,19 @@ class Chain:
             models[id(m)] = m
         return [(models[g], np.array(idx), np.unique(f[idx])) for g, idx in groups.items()]
 
+    @property
+    def routed(self) -> bool:
+        """True when the feed line's common-mode path is part of the model."""
+        return self.design.route is not None
+
     def antenna_at(self, frequency_hz) -> np.ndarray:
         """Feedpoint impedance [ohm] at any frequencies, each through the
         model of its band, each distinct (model, frequency) asked of the
-        response cache once."""
+        response cache once.  With a route it is the impedance the line's
+        differential mode sees, with the common-mode path in place."""
         f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
+        if self.routed:
+            return self._routed_at(f)[0]
         groups = self._by_model(f)
         solved = self.responses.lookup_each([m for m, _, _ in groups],
                                             [u for _, _, u in groups])
@@ -234,6 +244,31 @@ class Chain:
             for m in self.models)
         return out
 
+    def _routed_at(self, f: np.ndarray) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+        """Impedance and probe currents per volt at ``f`` (routed designs)."""
+        out = np.empty(f.size, dtype=complex)
+        cur: dict[str, np.ndarray] = {}
+        for m, idx, u in self._by_model(f):
+            z, c = self.responses.lookup_routed(m, u)
+            where = np.searchsorted(u, f[idx])
+            out[idx] = z[where]
+            for name, v in c.items():
+                cur.setdefault(name, np.zeros(f.size, dtype=complex))[idx] = v[where]
+        return out, cur
+
+    @cached_property
+    def common_mode(self) -> CommonMode | None:
+        """Common-mode currents at the radio's power, the heat in the chokes
+        and what is left for the antenna (None without a route)."""
+        if not self.routed:
+            return None
+        _, per_volt = self._routed_at(self.frequency_hz)
+        loads = {}
+        for ld in self.wire_model.loads:
+            loads[ld.name] = np.array([load_impedance(ld, float(fi))
+                                       for fi in self.frequency_hz])
+        return common_mode(self._ideal_system, per_volt, loads)
+
     def solve_requests(self) -> list[tuple[WireModel, np.ndarray]]:
         """The (model, distinct frequencies) pairs :attr:`antenna` asks the
         response cache for (see :func:`prefetch`)."""
@@ -247,12 +282,20 @@ class Chain:
         return build_chain(self.design.feed, r_radio=self.design.radio.impedance)
 
     @cached_property
-    def system(self):
-        """Impedance at the radio, SWR, exact power flow and stress
-        (:class:`necflow.analysis.SystemResponse`)."""
+    def _ideal_system(self):
         d = self.design
         return analyse(self.feed, self.frequency_hz, self.antenna, z_ref=d.radio.impedance,
                        power_w=d.radio.power)
+
+    @cached_property
+    def system(self):
+        """Impedance at the radio, SWR, exact power flow and stress
+        (:class:`necflow.analysis.SystemResponse`); with a route, the heat
+        of the common-mode loads joins the budget
+        (:func:`necflow.analysis.common_mode.with_common_mode`)."""
+        if self.common_mode is None:
+            return self._ideal_system
+        return with_common_mode(self._ideal_system, self.common_mode)
 
     @cached_property
     def cautions(self) -> list[str]:
@@ -307,9 +350,11 @@ class Chain:
         design = apply(self.design, values, keep_search=keep_search)
         out = Chain(design, self.responses, top_frequency_hz=self.top_frequency_hz,
                     density=self.density)
-        moves = any(p.split(".")[0] in GEOMETRY_ROOTS for p in values)
+        moves = self.routed or any(p.split(".")[0] in GEOMETRY_ROOTS for p in values)
         if not moves:
             for stage in ("bands", "_points", "models", "findings", "antenna"):
+                if self.routed and stage == "models":
+                    break      # with a route, feed fields move the line's outside
                 if stage in self.__dict__:
                     out.__dict__[stage] = self.__dict__[stage]
         elif checked:

@@ -288,6 +288,43 @@ class Sloper(Strict):
         return self
 
 
+class Counterpoise(Strict):
+    """A wire from the cold side of an end-fed wire's transformer."""
+
+    length: Length = quantity("length", gt=0, le=200.0, description="Length of the wire")
+    end_height: Length | None = quantity("length", default=None, ge=0, le=500.0,
+                                         description="Height of its far end (default: the "
+                                         "height of the feed end: horizontal)")
+    azimuth: Angle | None = quantity("angle", default=None, ge=-2 * _HALF_TURN,
+                                     le=2 * _HALF_TURN,
+                                     description="Direction it runs, seen from above (default: "
+                                     "opposite to the radiator)")
+
+
+class EndFed(Strict):
+    """A straight wire fed at one end through a transformer: the other side
+    of the transformer is the coax shield (the route) and an optional
+    counterpoise."""
+
+    shape: Literal["end-fed"]
+    length: Length = quantity("length", gt=0, le=2000.0,
+                              description="Length of the radiating wire")
+    feed_height: Length = quantity("length", gt=0, le=500.0,
+                                   description="Height of the fed end (the transformer), "
+                                   "which stands above x = y = 0")
+    far_height: Length | None = quantity("length", default=None, ge=0, le=500.0,
+                                         description="Height of the far end (default: the "
+                                         "feed height: horizontal)")
+    azimuth: Angle = quantity("angle", default="0 deg", ge=-2 * _HALF_TURN,
+                              le=2 * _HALF_TURN,
+                              description="Direction of the wire from the fed end, seen from "
+                              "above: 0 deg along +x")
+    counterpoise: Counterpoise | None = Field(None, description="A counterpoise wire on the "
+                                              "transformer's cold side (without one, the "
+                                              "route's coax shield is the only return)")
+    wire: WireSpec = Field(default_factory=WireSpec, description="Conductor")
+
+
 def _one_height(model: Any) -> None:
     if (model.bottom_height is None) == (model.top_height is None):
         raise ValueError("give exactly one of 'bottom_height' and 'top_height'")
@@ -487,7 +524,7 @@ class WireList(Strict):
 
 
 Antenna = Annotated[Doublet | OffCentre | InvertedV | WireList | Sloper | DeltaLoop
-                    | SquareLoop | HorizontalLoop | BentDoublet,
+                    | SquareLoop | HorizontalLoop | BentDoublet | EndFed,
                     Field(discriminator="shape")]
 
 # ----------------------------------------------------------------------------
@@ -971,6 +1008,43 @@ class ReportSpec(Strict):
         return self
 
 
+class Route(Strict):
+    """The feed line's path from the feed point to the station entry: its
+    outside (the common-mode path) is then modelled as wires with the
+    antenna, chokes as loads on it.  Without a route the line is an ideal
+    two-port (differential mode only)."""
+
+    run: Length | None = quantity("length", default=None, ge=0, le=5000.0,
+                                  description="Horizontal distance from the feed point to the "
+                                  "station entry (the line runs straight, sloping down to "
+                                  "'end_height'); or give 'points'")
+    bearing: Angle = quantity("angle", default="90 deg", ge=-2 * _HALF_TURN, le=2 * _HALF_TURN,
+                              description="Direction of the run seen from above, from +x "
+                              "toward +y (90 deg: at right angles to a wire along x)")
+    end_height: Length = quantity("length", default="1 m", ge=0, le=500.0,
+                                  description="Height of the line where it reaches the station "
+                                  "entry")
+    points: list[Point] | None = Field(None, min_length=1, max_length=limits.MAX_WIRES,
+                                       description="Instead of run, bearing and end_height: "
+                                       "the path as points after the feed point, ending at "
+                                       "the station entry", json_schema_extra={"unit": "m"})
+    entry: Literal["ground", "floating", "resistance"] = Field(
+        "ground", description="How the shield meets the station ground at the entry: a wire "
+        "straight down to the ground, a resistance in that wire, or not at all (floating)")
+    entry_resistance: Resistance | None = quantity("resistance", default=None, gt=0, le=1e6,
+                                                   description="The resistance of that "
+                                                   "connection (with entry: resistance)")
+
+    @model_validator(mode="after")
+    def _one_form(self) -> Route:
+        if (self.run is None) == (self.points is None):
+            raise ValueError("give 'run' (with 'bearing' and 'end_height') or 'points', "
+                             "not both")
+        if (self.entry == "resistance") != (self.entry_resistance is not None):
+            raise ValueError("entry_resistance: give it with entry: resistance, and only then")
+        return self
+
+
 class Design(Strict):
     """A complete antenna system: radiator, ground, feed chain and radio."""
 
@@ -1012,6 +1086,8 @@ class Design(Strict):
                                       description="How 'necflow tolerance' varies the design")
     report: ReportSpec = Field(default_factory=ReportSpec, description="What the decision "
                                "report shows")
+    route: Route | None = Field(None, description="The feed line's path, to model its "
+                                "common-mode current (not set: an ideal line)")
 
     @model_validator(mode="after")
     def _unique_ids(self) -> Design:
@@ -1022,6 +1098,14 @@ class Design(Strict):
         if total > limits.MAX_POINTS_TOTAL:
             raise ValueError(f"bands: {total} frequency points in all, more than "
                              f"{limits.MAX_POINTS_TOTAL:,}; give fewer points per band")
+        if self.antenna.shape == "end-fed" and self.route is None \
+                and self.antenna.counterpoise is None:
+            raise ValueError("route: an end-fed wire needs a return: give 'route' (the coax "
+                             "shield then carries it) or 'antenna.counterpoise'")
+        if self.route is not None and self.route.entry != "floating" \
+                and self.ground.model == "free-space":
+            raise ValueError("route: in free space there is no ground to connect the line to; "
+                             "give route.entry: floating")
         dupb = _duplicates(b.name for b in self.bands)
         if dupb:
             raise ValueError(f"band(s) listed twice: {', '.join(dupb)}")

@@ -246,6 +246,7 @@ def far_field(model: WireModel, frequency_hz, *, angles=(_TEN_DEGREES,),
     for fi in f:
         fi = float(fi)
         try:
+            _adapter.apply_loads(ctx, model, fi)
             ctx.fr_card(0, 1, fi / 1e6, 0.0)
         except Exception as exc:
             raise _adapter._fail(key, "set the frequency", exc, fi) from exc
@@ -314,11 +315,12 @@ def normalised_efficiency(efficiency, average_gain_lossless, ground: GroundModel
 
 
 def lossless_copy(model: WireModel) -> WireModel:
-    """The model with lossless wires, and a perfect ground in place of a
-    finite one (free space stays free space): the model the average gain
-    test is run on."""
+    """The model with lossless wires, lossless loads (a choke's reactance
+    only), and a perfect ground in place of a finite one (free space stays
+    free space): the model the average gain test is run on."""
     ground = GroundModel("perfect") if model.ground.has_ground else model.ground
-    return dataclasses.replace(model, conductivity=None, ground=ground)
+    loads = tuple(dataclasses.replace(ld, lossless=True) for ld in model.loads)
+    return dataclasses.replace(model, conductivity=None, ground=ground, loads=loads)
 
 
 def average_gain_test(model: WireModel, frequency_hz) -> np.ndarray:

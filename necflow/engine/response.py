@@ -24,6 +24,9 @@ from typing import Protocol, runtime_checkable
 
 import numpy as np
 
+from necflow.engine import pynec_adapter
+from necflow.errors import EngineError
+
 
 @runtime_checkable
 class Solver(Protocol):
@@ -104,6 +107,7 @@ class ResponseCache:
                  store=None):
         self.solver = as_solver(solver)
         self._store: OrderedDict[tuple[str, str], np.ndarray] = OrderedDict()
+        self._routed: OrderedDict[tuple[str, str], tuple] = OrderedDict()
         self.max_entries = max_entries
         self.persistent = store
         self.hits = 0
@@ -176,6 +180,38 @@ class ResponseCache:
                 self._remember(k, z)
                 out[i] = z.copy()
         return out  # type: ignore[return-value]
+
+
+    def lookup_routed(self, model, frequency_hz) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+        """Impedance [ohm] and probe currents [A per volt] of a model with its
+        feed line's common-mode path (:func:`necflow.engine.pynec_adapter.solve_routed`),
+        solved once per (model, frequencies) and kept in memory; the
+        impedance also goes to the persistent store.
+
+        Raises
+        ------
+        EngineError
+            When this cache's solver stands in for the engine: a stand-in
+            gives impedances only, not the currents on the line.
+        """
+        f = np.asarray(frequency_hz, dtype=float)
+        k = self.key(model, f)
+        hit = self._routed.get(k)
+        if hit is not None:
+            self.hits += 1
+            return hit[0].copy(), {n: v.copy() for n, v in hit[1].items()}
+        if self.solver.engine_tag is not None:
+            raise EngineError("the feed line's route needs the engine itself: this solver "
+                              f"({self.solver.engine_tag}) gives impedances only")
+        self.misses += 1
+        z, currents = pynec_adapter.solve_routed(model, f)
+        self._routed[k] = (z, currents)
+        while len(self._routed) > self.max_entries:
+            self._routed.popitem(last=False)
+        self._remember(k, z)
+        if self.persistent is not None:
+            self.persistent.put(k[0], f, z, engine=None)
+        return z.copy(), {n: v.copy() for n, v in currents.items()}
 
 
 __all__ = ["Solver", "FunctionSolver", "as_solver", "ResponseCache"]

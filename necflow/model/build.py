@@ -6,13 +6,14 @@ import numpy as np
 
 from necflow.catalog.grounds import SURFACES
 from necflow.catalog.materials import MATERIALS
-from necflow.config.schema import Design
+from necflow.config.schema import Design, EndFed
 from necflow.errors import ConfigError
 from necflow.model.checks import check_geometry
 from necflow.model.geometry import geometry
-from necflow.model.plan import expand, plan_wires
+from necflow.model.plan import expand, plan_routed_wires, plan_wires
+from necflow.model.route import route_plan
 from necflow.model.segments import grading
-from necflow.model.types import GroundModel, Wire, WireModel
+from necflow.model.types import GroundModel, Load, Probe, Source, Wire, WireModel
 
 
 def ground_model(design: Design) -> GroundModel:
@@ -77,16 +78,37 @@ def build_model(design: Design, f_max_hz: float, *, density: float = 1.0,
     check_geometry(design, f_max_hz, density=density, f_min_hz=f_min_hz)
     spans, feed = geometry(design)
     g = grading(design, f_max_hz, density, f_min_hz)
-    planned, source = plan_wires(spans, feed, g)
+    route = route_plan(design, _feed_point(spans, feed))
+    if route is None:
+        planned, source = plan_wires(spans, feed, g)
+        sources, loads, probes = [(source, 1.0)], [], []
+    else:
+        far = spans[feed.wire].end if isinstance(design.antenna, EndFed) else None
+        plan = plan_routed_wires(spans, feed, g, route, cold_far_from=far)
+        planned, sources, loads, probes = plan.wires, plan.sources, plan.loads, plan.probes
     # Connected ends are the very same coordinates: the plan reuses each
     # joint point, and copying keeps the values bit-identical.
     wires: list[Wire] = []
-    feed_tag = 0
+    first_tag: dict[int, int] = {}
+    last_tag: dict[int, int] = {}
     for i, p in enumerate(planned):
-        if i == source:
-            feed_tag = len(wires) + 1
+        first_tag[i] = len(wires) + 1
         for start, end, n in expand(p, g):
             wires.append(Wire(len(wires) + 1, p.name, _frozen(start), _frozen(end),
                               float(p.radius), n))
-    return WireModel(wires=tuple(wires), feed_tag=feed_tag, feed_segment=1,
-                     ground=ground_model(design), conductivity=wire_conductivity(design))
+        last_tag[i] = len(wires)
+    by_tag = {w.tag: w for w in wires}
+    src = tuple(Source(first_tag[i], 1, v) for i, v in sources) if route is not None else ()
+    lds = tuple(Load(ld.name, first_tag[i], 1, ld.kind, ld.spec) for i, ld in loads)
+    prb = tuple(Probe(name, first_tag[i], 1) if which == "first"
+                else Probe(name, last_tag[i], by_tag[last_tag[i]].segments)
+                for name, i, which in probes)
+    return WireModel(wires=tuple(wires), feed_tag=first_tag[sources[0][0]], feed_segment=1,
+                     ground=ground_model(design), conductivity=wire_conductivity(design),
+                     sources=src, loads=lds, probes=prb)
+
+
+def _feed_point(spans, feed) -> np.ndarray:
+    w = spans[feed.wire]
+    u = (w.end - w.start) / np.linalg.norm(w.end - w.start)
+    return w.start + feed.distance * u

@@ -8,13 +8,16 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
+
 from necflow import limits
 from necflow.catalog.bands import resolve_bands
-from necflow.config.schema import DeltaLoop, Design, InvertedV, Sloper, SquareLoop, WireList
+from necflow.config.schema import DeltaLoop, Design, EndFed, InvertedV, Sloper, SquareLoop, WireList
 from necflow.errors import ConfigError
 from necflow.model.clearance import clearance_problems
 from necflow.model.geometry import geometry
-from necflow.model.plan import plan_wires
+from necflow.model.plan import plan_routed_wires, plan_wires
+from necflow.model.route import route_plan
 from necflow.model.segments import grading
 
 
@@ -91,7 +94,15 @@ def check_geometry(design: Design, f_max_hz: float, *, density: float = 1.0,
             f"({field}[{i}]){extra}; wires may meet only end to end, at a shared point "
             f"(wire '{spans[j].name}' starts at {p[0]:g}, {p[1]:g}, {p[2]:g} m)",
             field=f"{field}[{j}]" if isinstance(a, WireList) else field)
-    planned, _ = plan_wires(spans, feed, grading(design, f_max_hz, density, f_min_hz))
+    g = grading(design, f_max_hz, density, f_min_hz)
+    w = spans[feed.wire]
+    route = route_plan(design, w.start + feed.distance * (w.end - w.start)
+                       / float(np.linalg.norm(w.end - w.start)))
+    if route is None:
+        planned, _ = plan_wires(spans, feed, g)
+    else:
+        far = w.end if isinstance(a, EndFed) else None
+        planned = plan_routed_wires(spans, feed, g, route, cold_far_from=far).wires
     count = sum(w.segments for w in planned)
     limit = design.model.max_segments
     if count > limit:

@@ -15,6 +15,7 @@ from necflow.config.schema import (
     DeltaLoop,
     Design,
     Doublet,
+    EndFed,
     HorizontalLoop,
     InvertedV,
     Leg,
@@ -100,6 +101,34 @@ def _sloper(a: Sloper) -> tuple[list[WireSpan], FeedLocation]:
     bottom = _p(reach * math.cos(a.azimuth), reach * math.sin(a.azimuth), a.top_height - drop)
     d = _position_distance(a.feed_position, a.length, "antenna.feed_position")
     return [WireSpan("wire", top, bottom, a.wire.diameter / 2.0)], FeedLocation(0, d)
+
+
+def _end_fed(a: EndFed) -> tuple[list[WireSpan], FeedLocation]:
+    """The radiator from the fed end (above x = y = 0) and the counterpoise,
+    if any, from the same point (the transformer)."""
+    r = a.wire.diameter / 2.0
+    feed = _p(0.0, 0.0, a.feed_height)
+    far_height = a.feed_height if a.far_height is None else a.far_height
+    drop = a.feed_height - far_height
+    if abs(drop) >= a.length:
+        raise ConfigError(f"a wire of {a.length:g} m cannot reach from {a.feed_height:g} m to "
+                          f"{far_height:g} m", field="antenna.far_height")
+    reach = math.sqrt(a.length ** 2 - drop ** 2)
+    far = _p(reach * math.cos(a.azimuth), reach * math.sin(a.azimuth), far_height)
+    spans = [WireSpan("radiator", feed, far, r)]
+    cp = a.counterpoise
+    if cp is not None:
+        end_height = a.feed_height if cp.end_height is None else cp.end_height
+        cdrop = a.feed_height - end_height
+        if abs(cdrop) >= cp.length:
+            raise ConfigError(f"a counterpoise of {cp.length:g} m cannot reach from "
+                              f"{a.feed_height:g} m to {end_height:g} m",
+                              field="antenna.counterpoise.end_height")
+        az = a.azimuth + math.pi if cp.azimuth is None else cp.azimuth
+        creach = math.sqrt(cp.length ** 2 - cdrop ** 2)
+        spans.append(WireSpan("counterpoise", feed, _p(creach * math.cos(az),
+                                                       creach * math.sin(az), end_height), r))
+    return spans, FeedLocation(0, 0.0)
 
 
 def delta_sides(antenna: DeltaLoop) -> tuple[float, float, float]:
@@ -278,7 +307,7 @@ def geometry(design: Design) -> tuple[list[WireSpan], FeedLocation]:
         d = _position_distance(a.feed.position, length, "antenna.feed.position")
         return spans, FeedLocation(k, d)
     shapes = {Sloper: _sloper, DeltaLoop: _delta_loop, SquareLoop: _square_loop,
-              HorizontalLoop: _horizontal_loop, BentDoublet: _bent_doublet}
+              HorizontalLoop: _horizontal_loop, BentDoublet: _bent_doublet, EndFed: _end_fed}
     if type(a) in shapes:
         return shapes[type(a)](a)
     raise ConfigError(f"unknown antenna shape '{getattr(a, 'shape', a)}'", field="antenna.shape")

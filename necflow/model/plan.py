@@ -294,11 +294,12 @@ def _nodes(pieces) -> tuple[list[np.ndarray], list[tuple[int, int]]]:
     return points, ends
 
 
-def _refinement(node: int, pieces, ends, source: int) -> str | None:
-    """'source' for an end of the source piece, 'junction' where three or
-    more pieces meet, two meet at a bend or change radius; else None."""
+def _refinement(node: int, pieces, ends, fine: set[int]) -> str | None:
+    """'source' for an end of a one-segment piece (the source's, a load's),
+    'junction' where three or more pieces meet, two meet at a bend or change
+    radius; else None."""
     touching = [(i, e) for i, pe in enumerate(ends) for e, n in enumerate(pe) if n == node]
-    if any(i == source for i, _ in touching):
+    if any(i in fine for i, _ in touching):
         return "source"
     if len(touching) >= 3:
         return "junction"
@@ -361,17 +362,151 @@ def plan_wires(spans: list[WireSpan], feed: FeedLocation,
         Index in ``wires`` of the one-segment source piece.
     """
     pieces, source = _pieces_with_source(spans, feed, grading.finest)
+    return _graded(pieces, {source}, grading), source
+
+
+def _graded(pieces, fine: set[int], grading: Grading) -> list[PlannedWire]:
+    """Segment counts of straight pieces; the ``fine`` pieces (sources,
+    loads) get one segment and start the grading at their ends."""
     points, ends = _nodes(pieces)
     start = {"source": 0.0, "junction": grading.junction_offset}
     seeds = {n: start[kind] for n in range(len(points))
-             if (kind := _refinement(n, pieces, ends, source)) is not None}
+             if (kind := _refinement(n, pieces, ends, fine)) is not None}
     dist = _distances(len(points), pieces, ends, seeds)
     out = []
     for i, ((name, start, end, radius), (a, b)) in enumerate(zip(pieces, ends)):
         length = float(np.linalg.norm(end - start))
-        n = 1 if i == source else piece_count(length, dist[a], dist[b], grading)
+        n = 1 if i in fine else piece_count(length, dist[a], dist[b], grading)
         out.append(PlannedWire(name, start, end, float(radius), n, dist[a], dist[b]))
-    return out, source
+    return out
+
+
+@dataclass(frozen=True)
+class RoutedPlan:
+    """A plan with the feed line's common-mode path.
+
+    ``sources`` are ``(piece index, voltage)`` (a split source: two halves of
+    0.5 V), ``loads`` ``(piece index, RouteLoad)``, ``probes`` ``(name,
+    piece index, 'first' or 'last' segment)`` where currents are read.
+    """
+
+    wires: list[PlannedWire]
+    sources: list[tuple[int, float]]
+    loads: list[tuple[int, object]]
+    probes: list[tuple[str, int, str]]
+
+
+def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Grading,
+                      route, cold_far_from: np.ndarray | None = None) -> RoutedPlan:
+    """:func:`plan_wires` with the route's common-mode path attached.
+
+    Parameters
+    ----------
+    spans, feed, grading
+        As :func:`plan_wires`.
+    route : necflow.model.route.RoutePlan
+    cold_far_from : ndarray, optional
+        For an end-fed wire: the radiator's far end; the cold side of the
+        source is the end farther from it.
+    """
+    finest = grading.finest
+    k, d = feed
+    fed = spans[k]
+    tol = 1e-9 * max(1.0, _length(fed))
+    at_end = d <= tol or d >= _length(fed) - tol
+    point = fed.start if d <= tol else fed.end
+    partners = [i for i, w in enumerate(spans) if i != k and (
+        np.linalg.norm(w.start - point) <= tol or np.linalg.norm(w.end - point) <= tol)]
+    if at_end and not partners:
+        # an end-fed wire with only the line as its return: the source bridges
+        # the line's top (cold) and the wire's end, along the route's first leg
+        u0 = route.points[1] - route.points[0]
+        u0 = u0 / np.linalg.norm(u0)
+        s = min(finest, _length(fed) / 1.5, float(np.linalg.norm(route.points[1] - point)) / 1.5)
+        a, b = point + s * u0, point
+        pieces = [(w.name, w.start, w.end, w.radius) for w in spans]
+        pieces.append(("feed (source)", a, b, fed.radius))
+        source = len(pieces) - 1
+    else:
+        pieces, source = _pieces_with_source(spans, feed, finest)
+        _, a, b, _ = pieces[source]
+    name, _, _, radius = pieces[source]
+    sources: list[tuple[int, float]]
+    if route.attach == "split":
+        m = (a + b) / 2.0
+        pieces[source] = (f"{name} (half)", a, m, radius)
+        pieces.insert(source + 1, (f"{name} (half)", m, b, radius))
+        sources = [(source, 0.5), (source + 1, 0.5)]
+        attach = m
+    else:
+        sources = [(source, 1.0)]
+        attach = a
+        if cold_far_from is not None and \
+                np.linalg.norm(b - cold_far_from) > np.linalg.norm(a - cold_far_from):
+            attach = b
+    fine = {i for i, _ in sources}
+    loads: list[tuple[int, object]] = []
+    probes: list[tuple[str, int, str]] = []
+    pts = [attach] + list(route.points[1:])
+    cum = np.concatenate([[0.0], np.cumsum([np.linalg.norm(q - p)
+                                            for p, q in zip(pts, pts[1:])])])
+    total = float(cum[-1])
+    cuts = {0.0, total, *map(float, cum)}
+    cuts |= {min(e, total) for e, _ in route.sections if e < total}
+    load_spans = []
+    for ld in route.loads:
+        if ld.at is None:
+            continue
+        lo = min(max(ld.at - finest / 2, 0.0), max(total - finest, 0.0))
+        hi = min(lo + finest, total)
+        load_spans.append((lo, hi, ld))
+        cuts |= {lo, hi}
+    cuts_sorted = sorted(c for c in cuts if 0.0 <= c <= total and not any(
+        lo + 1e-9 < c < hi - 1e-9 for lo, hi, _ in load_spans))
+    merged = [cuts_sorted[0]]
+    for c in cuts_sorted[1:]:
+        if c - merged[-1] > 1e-9 * max(1.0, total):
+            merged.append(c)
+
+    def at(dist: float) -> np.ndarray:
+        j = min(int(np.searchsorted(cum, dist, side="right")) - 1, len(pts) - 2)
+        t = (dist - cum[j]) / max(cum[j + 1] - cum[j], 1e-300)
+        return pts[j] + t * (pts[j + 1] - pts[j])
+
+    node_at = {merged[0]: attach}
+    for c in merged[1:]:
+        node_at[c] = at(c)
+    for lo, hi in zip(merged, merged[1:]):
+        mid = (lo + hi) / 2.0
+        here = next((ld for (a0, b0, ld) in load_spans if a0 <= mid <= b0), None)
+        r = route.radius_at(mid)
+        idx = len(pieces)
+        pieces.append(("line" if here is None else f"choke {here.name}", node_at[lo],
+                       node_at[hi], r))
+        if here is not None:
+            fine.add(idx)
+            loads.append((idx, here))
+            probes.append((here.name, idx, "first"))
+    last_route = len(pieces) - 1
+    end = node_at[merged[-1]]
+    entry_load = next((ld for ld in route.loads if ld.at is None), None)
+    r_end = route.radius_at(total)
+    if route.entry in ("ground", "resistance") and end[2] > 1e-9:
+        foot = np.array([end[0], end[1], 0.0])
+        if entry_load is not None:
+            s = min(finest, end[2] / 1.5)
+            knee = np.array([end[0], end[1], s])
+            pieces.append(("entry wire", end, knee, r_end))
+            pieces.append(("entry load", knee, foot, r_end))
+            fine.add(len(pieces) - 1)
+            loads.append((len(pieces) - 1, entry_load))
+            probes.append(("entry", len(pieces) - 1, "first"))
+        else:
+            pieces.append(("entry wire", end, foot, r_end))
+            probes.append(("entry", len(pieces) - 1, "last"))
+    else:
+        probes.append(("entry", last_route, "last"))
+    return RoutedPlan(_graded(pieces, fine, grading), sources, loads, probes)
 
 
 def expand(wire: PlannedWire, grading: Grading) -> list[tuple[np.ndarray, np.ndarray, int]]:

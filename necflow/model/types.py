@@ -115,6 +115,49 @@ def _xyz(p: np.ndarray) -> list[str]:
     return [_r(round(float(v), 9)) for v in p]
 
 
+@dataclass(frozen=True)
+class Source:
+    """A voltage source on a segment: ``voltage`` is its share of the 1 V
+    differential drive (0.5 on each half of a split source)."""
+
+    tag: int
+    segment: int
+    voltage: float
+
+
+@dataclass(frozen=True)
+class Load:
+    """A lumped load on a segment of the common-mode path.
+
+    ``kind`` 'choke' (``spec`` a ChokeSpec, a catalog entry or its name; its
+    impedance is evaluated at each frequency) or 'resistance' (``spec`` in
+    ohm); ``name`` the feed element's id or 'entry'."""
+
+    name: str
+    tag: int
+    segment: int
+    kind: str
+    spec: object
+    lossless: bool = False
+
+    def spec_text(self) -> str:
+        s = self.spec
+        if hasattr(s, "model_dump_json"):
+            return s.model_dump_json()
+        if hasattr(s, "name") and not isinstance(s, str):
+            return f"catalog:{s.name}"
+        return repr(s)
+
+
+@dataclass(frozen=True)
+class Probe:
+    """A segment whose current is read (per volt of drive)."""
+
+    name: str
+    tag: int
+    segment: int
+
+
 @dataclass(frozen=True, eq=False)
 class WireModel:
     """A segmented wire model, ready for the engine.
@@ -131,6 +174,13 @@ class WireModel:
         The ground.
     conductivity : float or None
         Conductivity of the wire material [S/m]; None is lossless.
+    sources : tuple of Source
+        The sources when the feed line is modelled (a split source); empty:
+        one 1 V source on ``feed_tag``, ``feed_segment``.
+    loads : tuple of Load
+        Loads on the common-mode path (chokes, the entry's resistance).
+    probes : tuple of Probe
+        Segments whose currents are read (chokes, the station entry).
     """
 
     wires: tuple[Wire, ...]
@@ -138,6 +188,18 @@ class WireModel:
     feed_segment: int
     ground: GroundModel
     conductivity: float | None
+    sources: tuple[Source, ...] = ()
+    loads: tuple[Load, ...] = ()
+    probes: tuple[Probe, ...] = ()
+
+    @property
+    def routed(self) -> bool:
+        """True when the feed line's common-mode path is part of the model."""
+        return bool(self.sources)
+
+    def drive(self) -> tuple[Source, ...]:
+        """The sources of the 1 V differential drive."""
+        return self.sources or (Source(self.feed_tag, self.feed_segment, 1.0),)
 
     @property
     def segment_count(self) -> int:
@@ -171,5 +233,10 @@ class WireModel:
                        None if self.ground.conductivity is None else _r(self.ground.conductivity)],
             "conductivity": None if self.conductivity is None else _r(self.conductivity),
         }
+        if self.routed:
+            data["sources"] = [[s.tag, s.segment, _r(s.voltage)] for s in self.sources]
+            data["loads"] = [[ld.tag, ld.segment, ld.kind, ld.spec_text(), ld.lossless]
+                             for ld in self.loads]
+            data["probes"] = [[p.name, p.tag, p.segment] for p in self.probes]
         text = json.dumps(data, sort_keys=True, separators=(",", ":"))
         return hashlib.sha256(text.encode()).hexdigest()
