@@ -117,4 +117,28 @@ def with_common_mode(system: SystemResponse, cm: CommonMode) -> SystemResponse:
                                delivered_fraction=remaining / system.power_available_w)
 
 
-__all__ = ["CommonMode", "SUFFIX", "common_mode", "with_common_mode"]
+def common_mode_cautions(cm: CommonMode, f, current_limit: float, heat_limit: float,
+                         ratings: dict[str, float] | None = None) -> list[str]:
+    """One-line cautions: a common-mode current at the station entry above
+    ``current_limit`` [A RMS]; a choke heated above ``heat_limit`` [W] or
+    above its own power rating (``ratings``: load name -> W)."""
+    f = np.asarray(f, dtype=float)
+    out = []
+    entry = cm.currents.get("entry")
+    if entry is not None and np.abs(entry).max() > current_limit:
+        k = int(np.argmax(np.abs(entry)))
+        out.append(f"common-mode current of {abs(entry[k]):.2g} A RMS on the line's outside at "
+                   f"the station entry at {f[k] / 1e6:.4g} MHz (above {current_limit:g} A): "
+                   "RF in the shack; a choke at the feed point or the entry reduces it")
+    for name, p in cm.load_power_w.items():
+        limit = (ratings or {}).get(name, heat_limit)
+        if name != "entry" and p.max() > limit:
+            k = int(np.argmax(p))
+            what = "its power rating" if name in (ratings or {}) else "the caution level"
+            out.append(f"choke '{name}' dissipates {p[k]:.3g} W at {f[k] / 1e6:.4g} MHz, above "
+                       f"{what} ({limit:g} W): it may overheat; a choke of higher resistive "
+                       "impedance dissipates less")
+    return out
+
+
+__all__ = ["CommonMode", "SUFFIX", "common_mode", "common_mode_cautions", "with_common_mode"]

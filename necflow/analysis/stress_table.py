@@ -109,4 +109,6 @@ def _applicable(kind: str) -> tuple[str, ...]:
         return ("voltage_rating", "power_rating")
     if kind in ("series", "shunt"):
         return ("voltage_rating", "current_rating", "power_rating")
+    if kind == "common-mode":
+        return ("power_rating",)
     return ()

@@ -53,6 +53,9 @@ class Evaluation:
         The feed chain's two-ports (the design's ``feed``).
     models : tuple of WireModel
         The model of each band (``model`` is the top band's).
+    common_mode : CommonMode or None
+        With a route: currents on the line's outside and heat in its chokes
+        at the radio's power (:mod:`necflow.analysis.common_mode`).
     """
 
     design: Design
@@ -65,6 +68,7 @@ class Evaluation:
     cautions: list[str] = field(default_factory=list)
     feed: FeedChain | None = None
     models: tuple = ()
+    common_mode: object = None
 
     def band_summaries(self) -> list[BandSummary]:
         """Lowest SWR and where, SWR at the edges and mean loss, per band."""

@@ -25,6 +25,7 @@ from necflow.analysis.alternatives import (
     standard_alternatives,
     system_gain_dbi,
 )
+from necflow.analysis.common_mode import SUFFIX
 from necflow.analysis.exposure import (
     compliance_distance_m,
     exposure_basis,
@@ -212,12 +213,18 @@ def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
             records.append(_alternative_record(opt, evaluation, n, gains if same else {}))
             optimised_from = str(study_dir)
     ratings = ratings_of(d.feed)
-    design_sys = alts[0].system
     worst = d.report.worst_case_power
-    stress_all = stress_rows(design_sys, ratings, worst, select=np.arange(f_all.size) < n)
+    if evaluation.common_mode is None:
+        design_sys, extra = alts[0].system, np.zeros(f_c.size, bool)
+    else:   # the design's own budget, the chokes' heat in it (band points only)
+        design_sys, extra = evaluation.system, np.zeros(0, bool)
+        for el in d.feed:
+            if getattr(el, "power_rating", None) is not None:
+                ratings.setdefault(el.id + SUFFIX, {})["power_rating"] = el.power_rating
+    stress_all = stress_rows(design_sys, ratings, worst,
+                             select=np.r_[np.ones(n, bool), extra])
     stress_band = {b.name: stress_rows(design_sys, ratings, worst,
-                                       select=np.r_[evaluation.band_index == i,
-                                                    np.zeros(f_c.size, bool)])
+                                       select=np.r_[evaluation.band_index == i, extra])
                    for i, b in enumerate(evaluation.bands)}
     duty = d.report.exposure_duty
     over_ground = evaluation.model.ground.has_ground
@@ -242,8 +249,45 @@ def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
         "stress_by_band": {k: [r.__dict__ for r in v] for k, v in stress_band.items()},
         "exposure": exposure, "exposure_basis": exposure_basis(over_ground),
         "efficiency_convention": EFFICIENCY_CONVENTION,
+        "common_mode": _common_mode_record(evaluation, ff, far_field_fn),
     }
     return fileio.json_ready(doc)
+
+
+def _common_mode_record(evaluation, ff: list[dict], far_field_fn) -> dict | None:
+    """Per band, with a route: the common-mode current at each probe and the
+    heat in each choke (largest over the band, at the radio's power), the SWR
+    at the radio with the line modelled and with an ideal line, and the peak
+    gain at the band centre both ways.  The ideal line's figures come from
+    the same design without its route (solved here)."""
+    cm = evaluation.common_mode
+    if cm is None:
+        return None
+    d = evaluation.design
+    ideal = Chain(d.model_copy(update={"route": None}))
+    swr, swr0 = evaluation.system.swr, ideal.system.swr
+    angles = np.array([e.elevation for e in d.report.elevations])
+    centre_ff = {r["band"]: r for r in ff if r["centre"]}
+    bands = []
+    for i, b in enumerate(evaluation.bands):
+        sel = evaluation.band_index == i
+        fc = 0.5 * (b.low_hz + b.high_hz)
+        rec = {"band": b.name,
+               "current_a_max": {k: float(np.abs(v[sel]).max()) for k, v in cm.currents.items()},
+               "heat_w_max": {k: float(v[sel].max()) for k, v in cm.load_power_w.items()},
+               "swr_max": float(swr[sel].max()), "swr_max_ideal_line": float(swr0[sel].max()),
+               "swr_change_max": float(np.max(np.abs(swr[sel] - swr0[sel]) / swr0[sel]))}
+        if b.name in centre_ff:
+            (g0,) = far_field_fn(ideal.models[i], np.array([fc]), angles=angles)
+            rec["peak_gain_dbi"] = centre_ff[b.name]["peak_gain_dbi"]
+            rec["peak_gain_dbi_ideal_line"] = float(g0.peak_gain_dbi)
+            rec["gain_at_angles_dbi"] = centre_ff[b.name]["gain_at_angles_dbi"]
+            rec["gain_at_angles_dbi_ideal_line"] = np.asarray(g0.gain_at_angles_dbi).tolist()
+        bands.append(rec)
+    return {"bands": bands, "entry": d.route.entry,
+            "note": "the line's own radiation is not separable from the antenna's (they "
+                    "couple); the change of SWR and of gain against an ideal line shows "
+                    "what modelling the line changes"}
 
 
 def _index_of(f_all: np.ndarray, f_hz: float) -> int:

@@ -35,7 +35,12 @@ import numpy as np
 
 from necflow.analysis import analyse
 from necflow.analysis import cautions as find_cautions
-from necflow.analysis.common_mode import CommonMode, common_mode, with_common_mode
+from necflow.analysis.common_mode import (
+    CommonMode,
+    common_mode,
+    common_mode_cautions,
+    with_common_mode,
+)
 from necflow.catalog.bands import Band, resolve_bands
 from necflow.chain.evaluation import Evaluation
 from necflow.config.fields import GEOMETRY_ROOTS, apply
@@ -300,7 +305,14 @@ class Chain:
     @cached_property
     def cautions(self) -> list[str]:
         d = self.design
-        return find_cautions(self.system, d.cautions.voltage, d.feed)
+        out = find_cautions(self.system, d.cautions.voltage, d.feed)
+        if self.common_mode is not None:
+            ratings = {el.id: el.power_rating for el in d.feed
+                       if getattr(el, "power_rating", None) is not None}
+            out += common_mode_cautions(self.common_mode, self.frequency_hz,
+                                        d.cautions.common_mode_current, d.cautions.choke_heat,
+                                        ratings)
+        return out
 
     @cached_property
     def evaluation(self) -> Evaluation:
@@ -309,7 +321,7 @@ class Chain:
                           frequency_hz=self.frequency_hz, band_index=self.band_index,
                           model=self.wire_model, system=self.system,
                           findings=self.findings, cautions=self.cautions, feed=self.feed,
-                          models=self.models)
+                          models=self.models, common_mode=self.common_mode)
 
     # -- far field ---------------------------------------------------------
 

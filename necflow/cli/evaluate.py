@@ -115,6 +115,14 @@ def cmd_evaluate(args) -> int:
                              title=f"{design.name}: {len(evaluation.frequency_hz)} points, "
                              f"{design.radio.power:g} W from a {design.radio.impedance:g} ohm "
                              "radio"))
+    cm = evaluation.common_mode
+    if cm is not None:
+        for i, b in enumerate(evaluation.bands):
+            sel = evaluation.band_index == i
+            parts = [f"{abs(v[sel]).max():.3g} A at {k}" for k, v in cm.currents.items()]
+            parts += [f"{v[sel].max():.3g} W in {k}" for k, v in cm.load_power_w.items()]
+            console.print(f"common mode on the line, {b.name}: " + ", ".join(parts),
+                          markup=False)
     for c in evaluation.cautions:
         console.print(f"caution: {c}")
     if convergence is not None:

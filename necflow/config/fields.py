@@ -34,8 +34,8 @@ from necflow.config.sections import SearchParam
 from necflow.errors import ConfigError
 
 #: First parts of a path that change the wire model or the ground (a solve).
-GEOMETRY_ROOTS = ("antenna", "ground")
-ROOTS = ("antenna", "ground", "feed")
+GEOMETRY_ROOTS = ("antenna", "ground", "route")
+ROOTS = ("antenna", "ground", "feed", "route")
 #: Plain-number fields (no unit) that may be varied.
 NUMERIC_PLAIN = {"permittivity", "q", "velocity_factor", "ratio", "loss", "weight"}
 

@@ -908,6 +908,14 @@ class Cautions(Strict):
     voltage: Voltage = quantity("voltage", default="1 kV", unit="V", gt=0,
                                 description="Peak RF voltage on any part or line that draws a "
                                 "caution")
+    common_mode_current: Current = quantity("current", default="0.1 A", gt=0, le=100.0,
+                                            description="RMS common-mode current at the "
+                                            "station entry that draws a caution (with a "
+                                            "route; common practice: RF in the shack)")
+    choke_heat: Power = quantity("power", default="5 W", gt=0, le=1e5,
+                                 description="Heat in a common-mode choke that draws a caution "
+                                 "(with a route; a ferrite choke runs hot at a few watts, "
+                                 "common practice)")
 
 
 class ModelSettings(Strict):

@@ -66,12 +66,27 @@ def point_records(evaluation) -> list[dict[str, Any]]:
             "loss_db": {key: float(v[k]) for key, v in s.loss_db.items()},
             "stress": stress,
         })
+        cm = evaluation.common_mode
+        if cm is not None:
+            out[-1]["common_mode"] = {
+                "current_a": {n: float(abs(v[k])) for n, v in cm.currents.items()},
+                "heat_w": {n: float(v[k]) for n, v in cm.load_power_w.items()}}
     return out
 
 
 def band_records(evaluation) -> list[dict[str, Any]]:
-    """One dict per band, in the ``results.json`` layout."""
-    return [dataclasses.asdict(b) for b in evaluation.band_summaries()]
+    """One dict per band, in the ``results.json`` layout (with a route: the
+    largest common-mode current at each probe and heat in each load)."""
+    out = [dataclasses.asdict(b) for b in evaluation.band_summaries()]
+    cm = evaluation.common_mode
+    if cm is not None:
+        for i, rec in enumerate(out):
+            sel = evaluation.band_index == i
+            rec["common_mode_a_max"] = {k: float(np.abs(v[sel]).max())
+                                        for k, v in cm.currents.items()}
+            rec["common_mode_heat_w_max"] = {k: float(v[sel].max())
+                                             for k, v in cm.load_power_w.items()}
+    return out
 
 
 def results_document(evaluation, *, config_sha256: str) -> dict[str, Any]:
