@@ -28,6 +28,7 @@ class CaseResults:
     swr: np.ndarray
     loss_db: np.ndarray
     chains: list[Chain]
+    common_mode_a: np.ndarray | None = None
 
 
 def _batch_field(chain: Chain, path: str) -> tuple[str, str] | None:
@@ -48,6 +49,8 @@ def evaluate_cases(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
         A case whose design is invalid; the message names the case.
     """
     f = chain.frequency_hz
+    if chain.routed:
+        return _one_by_one(chain, cases)
     paths = sorted({p for c in cases for p in c})
     batched = {p: _batch_field(chain, p) for p in paths}
     groups: dict[tuple, list[int]] = {}
@@ -81,6 +84,28 @@ def evaluate_cases(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
         for i in idx:
             chains[i] = member
     return CaseResults(swr=swr, loss_db=loss, chains=chains)  # type: ignore[arg-type]
+
+
+def _one_by_one(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
+    """Cases of a design with a route: each its own chain (the heat of its
+    chokes belongs in its budget, which the batch does not hold); cases of one
+    geometry still share a solve through the cache."""
+    f = chain.frequency_hz
+    swr = np.empty((len(cases), f.size))
+    loss = np.empty_like(swr)
+    chains = []
+    entry = np.zeros((len(cases), f.size))
+    for i, c in enumerate(cases):
+        try:
+            member = chain.variant(c)
+        except ConfigError as exc:
+            raise ConfigError(f"tolerance case {i}: {exc.message}", field=exc.field) from None
+        except ModelError as exc:
+            raise ModelError(f"tolerance case {i}: {exc}") from None
+        swr[i], loss[i] = member.system.swr, member.system.loss_db["total"]
+        entry[i] = np.abs(member.common_mode.currents.get("entry", np.zeros(f.size)))
+        chains.append(member)
+    return CaseResults(swr=swr, loss_db=loss, chains=chains, common_mode_a=entry)
 
 
 __all__ = ["CaseResults", "evaluate_cases"]

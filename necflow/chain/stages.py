@@ -43,7 +43,7 @@ from necflow.analysis.common_mode import (
 )
 from necflow.catalog.bands import Band, resolve_bands
 from necflow.chain.evaluation import Evaluation
-from necflow.config.fields import GEOMETRY_ROOTS, apply
+from necflow.config.fields import apply, moves_wires
 from necflow.config.schema import Design
 from necflow.engine.far_field import FarField, average_gain_test, far_field
 from necflow.engine.pynec_adapter import load_impedance
@@ -362,11 +362,9 @@ class Chain:
         design = apply(self.design, values, keep_search=keep_search)
         out = Chain(design, self.responses, top_frequency_hz=self.top_frequency_hz,
                     density=self.density)
-        moves = self.routed or any(p.split(".")[0] in GEOMETRY_ROOTS for p in values)
+        moves = any(moves_wires(self.design, p) for p in values)
         if not moves:
-            for stage in ("bands", "_points", "models", "findings", "antenna"):
-                if self.routed and stage == "models":
-                    break      # with a route, feed fields move the line's outside
+            for stage in ("bands", "_points", "models", "findings", "antenna", "_routed"):
                 if stage in self.__dict__:
                     out.__dict__[stage] = self.__dict__[stage]
         elif checked:

@@ -36,6 +36,20 @@ from necflow.errors import ConfigError
 #: First parts of a path that change the wire model or the ground (a solve).
 GEOMETRY_ROOTS = ("antenna", "ground", "route")
 ROOTS = ("antenna", "ground", "feed", "route")
+#: Feed fields that move the line's outside when the design has a route
+#: (its lengths and sizes, and the chokes on it).
+ROUTE_FEED_FIELDS = ("length", "line", "choke", "balun_kind")
+
+
+def moves_wires(design: Design, path: str) -> bool:
+    """True when changing the field at ``path`` changes the wire model (a
+    new solve): the antenna, the ground, the route, and with a route the
+    feed's line lengths, line types and chokes."""
+    parts = path.split(".")
+    if parts[0] in GEOMETRY_ROOTS:
+        return True
+    return design.route is not None and parts[0] == "feed" and len(parts) >= 3 \
+        and parts[2] in ROUTE_FEED_FIELDS
 #: Plain-number fields (no unit) that may be varied.
 NUMERIC_PLAIN = {"permittivity", "q", "velocity_factor", "ratio", "loss", "weight"}
 
@@ -302,7 +316,7 @@ def param(design: Design, path: str, spec: SearchParam) -> Param:
         With what is wrong (the caller adds file, line and section).
     """
     owner, name = locate(design, path)
-    geometry = path.split(".")[0] in GEOMETRY_ROOTS
+    geometry = moves_wires(design, path)
     if name == "line" and path.startswith("feed."):
         if spec.choices is None:
             raise ValueError("a line type is searched over 'choices' of catalog names")

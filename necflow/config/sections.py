@@ -84,6 +84,9 @@ class CostSpec(_Strict):
                               "above the limit)")
     loss_weight: float = Field(1.0, ge=0, description="Weight of the loss term (per dB of "
                                "total system loss)")
+    common_mode_weight: float = Field(0.0, ge=0, le=1000, description="Weight of the "
+                                      "common-mode current at the station entry (per A RMS "
+                                      "at the radio's power; with a route)")
     swr_softness: float = Field(0.1, gt=0, le=10, description="Width of the smooth knee of "
                                 "the SWR penalty at the limit, in SWR units")
     objectives: list[Literal["cost", "worst_swr", "loss_db", "span"]] = Field(

@@ -147,7 +147,8 @@ class ArrayScores:
     loss_db: np.ndarray
 
 
-def score_arrays(swr, loss_db, band_index, weights, limit: float, spec) -> ArrayScores:
+def score_arrays(swr, loss_db, band_index, weights, limit: float, spec,
+                 common_mode_a=None) -> ArrayScores:
     """The cost of each variant (see the README section "Cost").
 
     ``point_i = a * swr_term_i + b * T_i`` with ``swr_term`` the smooth
@@ -167,6 +168,10 @@ def score_arrays(swr, loss_db, band_index, weights, limit: float, spec) -> Array
     limit : float
         SWR limit [-].
     spec : CostSpec
+    common_mode_a : array_like, optional
+        ``(nvar, nfreq)`` RMS common-mode current at the station entry [A]
+        (with a route); adds ``c * |I|`` per point, ``c`` the spec's
+        ``common_mode_weight``.
     """
     swr = np.atleast_2d(np.asarray(swr, dtype=float))
     total = np.atleast_2d(np.asarray(loss_db, dtype=float))
@@ -176,6 +181,8 @@ def score_arrays(swr, loss_db, band_index, weights, limit: float, spec) -> Array
         raise ValueError("every band has weight 0; give at least one band a positive weight")
     pen = swr_penalty(swr, limit, spec.swr_softness)
     point = spec.swr_weight * pen + spec.loss_weight * total
+    if common_mode_a is not None and spec.common_mode_weight:
+        point = point + spec.common_mode_weight * np.abs(np.atleast_2d(common_mode_a))
     sel = [band_index == k for k in range(w.size)]
     band_cost = np.stack([point[:, m].mean(axis=1) for m in sel], axis=1)
     swr_term = np.stack([pen[:, m].mean(axis=1) for m in sel], axis=1)
@@ -203,9 +210,11 @@ def objective_values(arrays: ArrayScores, spec, span: float | np.ndarray | None 
 def score(evaluation, spec) -> Score:
     """Score an :class:`~necflow.chain.Evaluation` with a :class:`CostSpec`."""
     d = evaluation.design
+    cm = getattr(evaluation, "common_mode", None)
+    entry = None if cm is None else cm.currents.get("entry")
     a = score_arrays(evaluation.system.swr, evaluation.system.loss_db["total"],
                      evaluation.band_index, [b.weight for b in evaluation.bands],
-                     d.goal.swr_limit, spec)
+                     d.goal.swr_limit, spec, common_mode_a=entry)
     return score_from_arrays(a, 0, evaluation.bands, spec,
                              horizontal_extent(d) if "span" in spec.objectives else None)
 

@@ -164,7 +164,7 @@ def robust_score(design, plan: RobustPlan, cache) -> RobustScore:
     spec = design.cost
     weights = [b.weight for b in chain.bands]
     arrays = score_arrays(result.swr, result.loss_db, chain.band_index, weights,
-                          design.goal.swr_limit, spec)
+                          design.goal.swr_limit, spec, common_mode_a=result.common_mode_a)
     span = None
     if "span" in spec.objectives:
         span = np.array([horizontal_extent(c.design) for c in result.chains])

@@ -143,6 +143,10 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
         raise ConfigError("the split search minimises the single objective 'cost'",
                           field="cost.objectives")
     say = on_stage or (lambda text: None)
+    if design.route is not None:
+        raise ConfigError("the split search scores feed variants without the feed line's "
+                          "common-mode path; a design with a route is searched by the trials "
+                          "method", field="route")
     base = Chain(design, cache)
     bands, f, band_index = base.bands, base.frequency_hz, base.band_index
     geo = [p for p in space.params if p.geometry]
