@@ -177,8 +177,9 @@ def _read_impedance(key: str, model: WireModel):
         try:
             ip = ctx.get_input_parameters(i)
             z = np.asarray(ip.get_impedance(), dtype=complex).ravel()
-            cur = np.asarray(ip.get_current(), dtype=complex).ravel()
-            segs = np.asarray(ip.get_segment(), dtype=int).ravel()
+            if len(drive) > 1:
+                cur = np.asarray(ip.get_current(), dtype=complex).ravel()
+                segs = np.asarray(ip.get_segment(), dtype=int).ravel()
             f_got = float(ip.get_frequency())
         except Exception as exc:
             raise _fail(key, "return the feedpoint impedance", exc, f_hz) from exc

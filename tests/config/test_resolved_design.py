@@ -90,7 +90,8 @@ def test_round_trip_gives_an_equal_design(text):
 def test_resolved_design_has_every_default_and_every_unit():
     data = yaml.safe_load(resolved_yaml(load_design_text(BASE)))
     from necflow.config.schema import Design
-    assert list(data) == list(Design.model_fields), "every top-level key, in schema order"
+    # every top-level key in schema order; 'route' is optional (absent: the line is ideal)
+    assert list(data) == [k for k in Design.model_fields if k != "route"]
     assert data["antenna"]["span"] == "20 m"
     assert data["antenna"]["wire"] == {"diameter": "2 mm", "material": "copper"}
     assert data["bands"][0] == {"name": "40m", "low": "7 MHz", "high": "7.3 MHz",
