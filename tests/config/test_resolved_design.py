@@ -100,7 +100,8 @@ def test_resolved_design_has_every_default_and_every_unit():
     assert data["feed"][2]["ratio"] == "1:1"
     assert data["feed"][2]["loss"] == 0.1  # dB, the schema default
     assert data["radio"] == {"impedance": "50 ohm", "power": "100 W"}
-    assert data["cautions"] == {"voltage": "1000 V"}
+    assert data["cautions"] == {"voltage": "1000 V", "common_mode_current": "0.1 A",
+                                "choke_heat": "5 W"}
     assert data["model"] == {"segments_per_wavelength": 20.0, "max_segments": 2000}
 
 
