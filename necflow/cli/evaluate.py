@@ -115,14 +115,13 @@ def cmd_evaluate(args) -> int:
                              title=f"{design.name}: {len(evaluation.frequency_hz)} points, "
                              f"{design.radio.power:g} W from a {design.radio.impedance:g} ohm "
                              "radio"))
-    cm = evaluation.common_mode
-    if cm is not None:
-        for i, b in enumerate(evaluation.bands):
-            sel = evaluation.band_index == i
-            parts = [f"{abs(v[sel]).max():.3g} A at {k}" for k, v in cm.currents.items()]
-            parts += [f"{v[sel].max():.3g} W in {k}" for k, v in cm.load_power_w.items()]
-            console.print(f"common mode on the line, {b.name}: " + ", ".join(parts),
-                          markup=False)
+    cm_record = (report_doc.get("common_mode") or {}).get("bands") or []
+    for rec in cm_record:
+        parts = [f"{v:.3g} A at {k}" for k, v in rec["current_a_max"].items()]
+        parts += [f"{v:.3g} W in {k}" for k, v in rec["heat_w_max"].items()]
+        parts.append(f"SWR max {rec['swr_max']:.2f} (ideal line {rec['swr_max_ideal_line']:.2f})")
+        console.print(f"common mode on the line, {rec['band']}: " + ", ".join(parts),
+                      markup=False)
     for c in evaluation.cautions:
         console.print(f"caution: {c}")
     if convergence is not None:

@@ -664,6 +664,12 @@ class ChokeSpec(Strict):
     parallel: ParallelRLC | None = Field(None, description="Parallel R-L-C: "
                                          "Z = 1 / (1/R + 1/(jwL) + jwC)")
 
+    @model_validator(mode="before")
+    @classmethod
+    def _catalog_name(cls, data: Any) -> Any:
+        """A plain name is short for ``{catalog: name}``."""
+        return {"catalog": data} if isinstance(data, str) else data
+
     @model_validator(mode="after")
     def _one_form(self) -> ChokeSpec:
         given = [k for k in CHOKE_FORMS if getattr(self, k) is not None]

@@ -365,9 +365,12 @@ def plan_wires(spans: list[WireSpan], feed: FeedLocation,
     return _graded(pieces, {source}, grading), source
 
 
-def _graded(pieces, fine: set[int], grading: Grading) -> list[PlannedWire]:
+def _graded(pieces, fine: set[int], grading: Grading,
+            min_size: dict[int, float] | None = None) -> list[PlannedWire]:
     """Segment counts of straight pieces; the ``fine`` pieces (sources,
-    loads) get one segment and start the grading at their ends."""
+    loads) get one segment and start the grading at their ends.  A piece in
+    ``min_size`` starts its grading where the size function reaches that
+    length [m] (a fat wire's segments stay long against its radius)."""
     points, ends = _nodes(pieces)
     start = {"source": 0.0, "junction": grading.junction_offset}
     seeds = {n: start[kind] for n in range(len(points))
@@ -376,9 +379,18 @@ def _graded(pieces, fine: set[int], grading: Grading) -> list[PlannedWire]:
     out = []
     for i, ((name, start, end, radius), (a, b)) in enumerate(zip(pieces, ends)):
         length = float(np.linalg.norm(end - start))
-        n = 1 if i in fine else piece_count(length, dist[a], dist[b], grading)
-        out.append(PlannedWire(name, start, end, float(radius), n, dist[a], dist[b]))
+        da, db = dist[a], dist[b]
+        if min_size and i in min_size:
+            off = max(0.0, (min_size[i] - grading.finest) / grading.growth)
+            da, db = max(da, off), max(db, off)
+        n = 1 if i in fine else piece_count(length, da, db, grading)
+        out.append(PlannedWire(name, start, end, float(radius), n, da, db))
     return out
+
+
+#: A line's segments stay at least this many times its common-mode radius
+#: (the thin-wire kernel wants 8, NEC-2 user guide; a margin for round-off).
+_THICK = 8.5
 
 
 @dataclass(frozen=True)
@@ -428,7 +440,12 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
         pieces.append(("feed (source)", a, b, fed.radius))
         source = len(pieces) - 1
     else:
-        pieces, source = _pieces_with_source(spans, feed, finest)
+        # a source segment is at least the finest length (a split source is
+        # two of them) and long enough that the line's first segment, kept at
+        # least _THICK times its radius, is under twice its length
+        seg = max(finest, _THICK * route.radius_at(0.0) / 1.8)
+        src = 2.0 * seg if route.attach == "split" else seg
+        pieces, source = _pieces_with_source(spans, feed, src)
         _, a, b, _ = pieces[source]
     name, _, _, radius = pieces[source]
     sources: list[tuple[int, float]]
@@ -457,8 +474,12 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
     for ld in route.loads:
         if ld.at is None:
             continue
-        lo = min(max(ld.at - finest / 2, 0.0), max(total - finest, 0.0))
-        hi = min(lo + finest, total)
+        span = max(finest, _THICK * route.radius_at(ld.at))
+        lo = min(max(ld.at - span / 2, 0.0), max(total - span, 0.0))
+        hi = min(lo + span, total)
+        for c in map(float, cum[1:-1]):      # keep a choke on one straight leg
+            if lo + 1e-9 < c < hi - 1e-9:
+                lo, hi = (max(c - span, 0.0), c) if ld.at <= c else (c, min(c + span, total))
         load_spans.append((lo, hi, ld))
         cuts |= {lo, hi}
     cuts_sorted = sorted(c for c in cuts if 0.0 <= c <= total and not any(
@@ -467,6 +488,8 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
     for c in cuts_sorted[1:]:
         if c - merged[-1] > 1e-9 * max(1.0, total):
             merged.append(c)
+
+    thick: dict[int, float] = {}
 
     def at(dist: float) -> np.ndarray:
         j = min(int(np.searchsorted(cum, dist, side="right")) - 1, len(pts) - 2)
@@ -483,6 +506,7 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
         idx = len(pieces)
         pieces.append(("line" if here is None else f"choke {here.name}", node_at[lo],
                        node_at[hi], r))
+        thick[idx] = _THICK * r
         if here is not None:
             fine.add(idx)
             loads.append((idx, here))
@@ -494,19 +518,21 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
     if route.entry in ("ground", "resistance") and end[2] > 1e-9:
         foot = np.array([end[0], end[1], 0.0])
         if entry_load is not None:
-            s = min(finest, end[2] / 1.5)
+            s = min(max(finest, _THICK * r_end), end[2] / 1.5)
             knee = np.array([end[0], end[1], s])
             pieces.append(("entry wire", end, knee, r_end))
+            thick[len(pieces) - 1] = _THICK * r_end
             pieces.append(("entry load", knee, foot, r_end))
             fine.add(len(pieces) - 1)
             loads.append((len(pieces) - 1, entry_load))
             probes.append(("entry", len(pieces) - 1, "first"))
         else:
             pieces.append(("entry wire", end, foot, r_end))
+            thick[len(pieces) - 1] = _THICK * r_end
             probes.append(("entry", len(pieces) - 1, "last"))
     else:
         probes.append(("entry", last_route, "last"))
-    return RoutedPlan(_graded(pieces, fine, grading), sources, loads, probes)
+    return RoutedPlan(_graded(pieces, fine, grading, thick), sources, loads, probes)
 
 
 def expand(wire: PlannedWire, grading: Grading) -> list[tuple[np.ndarray, np.ndarray, int]]:

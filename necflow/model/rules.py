@@ -129,6 +129,19 @@ def _junction_rules(model: WireModel) -> list[Finding]:
     gap = np.linalg.norm(ends[ij[:, 0]] - ends[ij[:, 1]], axis=1)
     shorter = np.minimum(seg[ij[:, 0] // 2], seg[ij[:, 1] // 2])
     keep = (gap == 0.0) | (gap < 0.5 * shorter)
+    # two ends joined by a wire of their own (a short source between two
+    # wires, with a line attached at its middle) are connected, not a near miss
+    bridged = {tuple(sorted((2 * k, 2 * k + 1))) for k in range(len(wires))}
+    node = {}
+    for idx, p in enumerate(map(tuple, ends)):
+        node.setdefault(p, []).append(idx)
+    links = set()
+    for k in range(len(wires)):
+        for i in node[tuple(ends[2 * k])]:
+            for j in node[tuple(ends[2 * k + 1])]:
+                links.add((min(i, j), max(i, j)))
+    keep &= np.array([(gap[n] == 0.0) or (int(a), int(b)) not in links
+                      for n, (a, b) in enumerate(ij)], dtype=bool)
     out = []
     for (i, j), g in sorted(zip(map(tuple, ij[keep]), gap[keep])):
         a, b = wires[i // 2], wires[j // 2]
