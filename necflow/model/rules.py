@@ -131,7 +131,6 @@ def _junction_rules(model: WireModel) -> list[Finding]:
     keep = (gap == 0.0) | (gap < 0.5 * shorter)
     # two ends joined by a wire of their own (a short source between two
     # wires, with a line attached at its middle) are connected, not a near miss
-    bridged = {tuple(sorted((2 * k, 2 * k + 1))) for k in range(len(wires))}
     node = {}
     for idx, p in enumerate(map(tuple, ends)):
         node.setdefault(p, []).append(idx)
