@@ -86,6 +86,7 @@ def build_model(design: Design, f_max_hz: float, *, density: float = 1.0,
         far = spans[feed.wire].end if isinstance(design.antenna, EndFed) else None
         plan = plan_routed_wires(spans, feed, g, route, cold_far_from=far)
         planned, sources, loads, probes = plan.wires, plan.sources, plan.loads, plan.probes
+        g = plan.grading
     # Connected ends are the very same coordinates: the plan reuses each
     # joint point, and copying keeps the values bit-identical.
     wires: list[Wire] = []

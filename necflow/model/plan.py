@@ -388,6 +388,10 @@ def _graded(pieces, fine: set[int], grading: Grading,
     return out
 
 
+#: Length of an end-fed wire's source segment [m]: about the size of the
+#: transformer's box between its terminals (common practice: a few cm to 10 cm).
+END_FED_GAP = 0.1
+
 #: A line's segments stay at least this many times its common-mode radius
 #: (the thin-wire kernel wants 8, NEC-2 user guide; a margin for round-off).
 _THICK = 8.5
@@ -399,13 +403,15 @@ class RoutedPlan:
 
     ``sources`` are ``(piece index, voltage)`` (a split source: two halves of
     0.5 V), ``loads`` ``(piece index, RouteLoad)``, ``probes`` ``(name,
-    piece index, 'first' or 'last' segment)`` where currents are read.
+    piece index, 'first' or 'last' segment)`` where currents are read;
+    ``grading`` the grading the pieces were counted with (expand with it).
     """
 
     wires: list[PlannedWire]
     sources: list[tuple[int, float]]
     loads: list[tuple[int, object]]
     probes: list[tuple[str, int, str]]
+    grading: Grading
 
 
 def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Grading,
@@ -421,6 +427,12 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
         For an end-fed wire: the radiator's far end; the cold side of the
         source is the end farther from it.
     """
+    if cold_far_from is not None:
+        # an end-fed wire's source is the transformer's gap, of a fixed size:
+        # a source refined toward zero at the current minimum of a
+        # high-impedance feed does not converge (the average gain test drifts)
+        grading = Grading(grading.longest, max(grading.finest, END_FED_GAP), grading.growth,
+                          grading.junction)
     finest = grading.finest
     k, d = feed
     fed = spans[k]
@@ -439,6 +451,7 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
         pieces = [(w.name, w.start, w.end, w.radius) for w in spans]
         pieces.append(("feed (source)", a, b, fed.radius))
         source = len(pieces) - 1
+        cold_far_from = None            # the line goes on from the source's lower end
     else:
         # a source segment is at least the finest length (a split source is
         # two of them) and long enough that the line's first segment, kept at
@@ -532,7 +545,7 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
             probes.append(("entry", len(pieces) - 1, "last"))
     else:
         probes.append(("entry", last_route, "last"))
-    return RoutedPlan(_graded(pieces, fine, grading, thick), sources, loads, probes)
+    return RoutedPlan(_graded(pieces, fine, grading, thick), sources, loads, probes, grading)
 
 
 def expand(wire: PlannedWire, grading: Grading) -> list[tuple[np.ndarray, np.ndarray, int]]:
