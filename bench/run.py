@@ -89,6 +89,33 @@ def sweep_overhead(design_path: Path) -> dict:
     return {"first": runs[0], "warm": runs[1]}
 
 
+def route_cost(design) -> dict:
+    """Engine time per frequency point with the feed line in the model (the
+    design's route) against the same design with an ideal line, in one run:
+    every band's model solved at its band's points."""
+    from necflow.chain import Chain
+    from necflow.engine import pynec_adapter
+
+    out = {}
+    for name, d, solve in (
+            ("ideal_line", design.model_copy(update={"route": None}),
+             pynec_adapter.solve_feedpoint),
+            ("route", design, pynec_adapter.solve_routed)):
+        chain = Chain(d)
+        seconds, points = 0.0, 0
+        for i, m in enumerate(chain.models):
+            f = chain.frequency_hz[chain.band_index == i]
+            t0 = time.perf_counter()
+            solve(m, f)
+            seconds += time.perf_counter() - t0
+            points += f.size
+        out[name] = {"engine_s": seconds, "points": points,
+                     "segments": max(sum(w.segments for w in m.wires) for m in chain.models),
+                     "s_per_point": seconds / points}
+    out["ratio"] = out["route"]["s_per_point"] / out["ideal_line"]["s_per_point"]
+    return out
+
+
 def reference(design, space, workers: int) -> dict:
     from necflow.engine.parallel import ParallelSolver
     from necflow.engine.response import ResponseCache
@@ -230,6 +257,11 @@ def main(argv=None) -> int:
     t_start = time.perf_counter()
     say = lambda s: print(f"[{time.perf_counter() - t_start:6.0f} s] {s}", flush=True)  # noqa
     design, space = load_study_design(args.design)
+    say("0/5 solve cost with the feed line in the model")
+    routed = route_cost(design) if design.route is not None else None
+    # the search measures below compare search methods on the antenna with an
+    # ideal line (the split search does not take a route)
+    design = design.model_copy(update={"route": None})
     say("1/5 plain sweep of the demo design")
     sweep = sweep_overhead(Path(args.design))
     say("2/5 reference optimum (every geometry over Sommerfeld-Norton, every feed variant)")
@@ -266,6 +298,7 @@ def main(argv=None) -> int:
         "solves_per_second_one_process": rate["one_process"],
         "memory_growth_mb": mem["memory_growth_mb"],
         "peak_memory_mb": peak_self,
+        "route_solve_cost": routed,
         "sweep": sweep, "reference": ref, "split_search": fst, "plain_loop": plain,
         "memory": mem, "workers": args.workers, "band": BAND,
         "machine": {"python": platform.python_version(), "cpus": os.cpu_count(),
@@ -297,6 +330,9 @@ def main(argv=None) -> int:
         ("engine points per second", f"{rate['one_process']:.1f} (1 process), "
          f"{rate['all_workers']:.1f} ({args.workers} workers)", ""),
         ("  per core", f"{rate['per_core']:.1f}", ""),
+        ("engine time per point, line in the model / ideal line",
+         "-" if routed is None else f"{routed['ratio']:.1f} x ({routed['route']['segments']} / "
+         f"{routed['ideal_line']['segments']} segments)", ""),
         ("peak memory (main process)", f"{peak_self:.0f} MB", ""),
         (f"memory after {mem['evaluations']} vs 100 evaluations",
          f"{mem['memory_growth_mb']:+.1f} MB", "< 50 MB"),

@@ -17,6 +17,7 @@ import numpy as np
 from scipy.constants import speed_of_light
 from scipy.spatial import cKDTree
 
+from necflow.catalog.lines import resolve_line_type
 from necflow.config.schema import Design
 from necflow.model.types import WireModel
 
@@ -30,6 +31,7 @@ RULE_REFLECTION_CONTACT = ("NEC-2 guide: wires connected to the ground need a pe
                            "Sommerfeld-Norton ground")
 RULE_JUNCTION_RATIO = "NEC-2 guide: nearly equal segment lengths at junctions (ratio <= 2)"
 RULE_COINCIDENT_ENDS = "NEC-2 guide: connected wire ends must coincide"
+RULE_UNBALANCED_JUNCTION = "model limit: a balanced line joined to coax needs a current balun"
 
 #: Thresholds of the rules above (wavelengths or plain ratios).
 MAX_SEGMENT_WL = 0.1
@@ -184,4 +186,30 @@ def check_rules(model: WireModel, design: Design, f_min_hz: float,
     lam_min = speed_of_light / f_max_hz
     lam_max = speed_of_light / f_min_hz
     return (_segment_rules(model, lam_min, lam_max) + _ground_rules(model, lam_max)
-            + _junction_rules(model))
+            + _junction_rules(model) + _route_rules(design))
+
+
+def _route_rules(design: Design) -> list[Finding]:
+    """A balanced line joined straight to an unbalanced one, with a route: the
+    shield then carries one conductor's current on its outside, a drive of
+    the common mode the model does not include (see DEVELOPERS.md)."""
+    if design.route is None:
+        return []
+    prev = None
+    for el in design.feed:
+        if getattr(el, "line", None) is not None:
+            lt = resolve_line_type(el.line, el.impedance, el.velocity_factor, el.loss,
+                                   el.balanced)
+            if prev is not None and prev[1] and not lt.balanced:
+                return [Finding(RULE_UNBALANCED_JUNCTION, "warning",
+                                f"'{prev[0]}' (balanced) meets '{el.id}' (coax) with no current "
+                                "balun between them: the common mode this junction drives is "
+                                "not in the model, so its common-mode figures are optimistic "
+                                "(a choke there limits that drive); a current balun there is "
+                                "modelled exactly")]
+            prev = (el.id, lt.balanced)
+        elif getattr(el, "transformer", None) is not None:
+            # a current balun forces equal and opposite currents: the junction
+            # below it is balanced; a voltage balun or an unun does not
+            prev = None if getattr(el, "effective_balun_kind", None) == "current" else prev
+    return []
