@@ -40,3 +40,15 @@ def design_of(antenna: dict, ground: dict | None = None, **model):
 def make_design():
     """Factory of minimal designs for the wire-model and engine tests."""
     return design_of
+
+
+def demo_text_without_route() -> str:
+    """The demo design's text without its ``route`` block: for tests that
+    use :func:`dipole_like_solver`, which stands in for the engine's
+    impedance only (the route's physics is tested in
+    tests/engine/test_route_physics.py and tests/chain/test_common_mode_physics.py)."""
+    import re
+    text = (CONFIGS / "demo.yaml").read_text(encoding="utf-8")
+    out, n = re.subn(r"(?m)^route:.*\n(?:[ #].*\n)*", "", text)
+    assert n == 1, "the demo has one route block"
+    return out

@@ -219,6 +219,12 @@ def _read_probes(key: str, model: WireModel):
         base = {w.tag: int(nums[first[w.tag]]) for w in model.wires if w.tag in first}
         out = {}
         for p in model.probes:
+            if p.last_tag is not None:
+                span = np.flatnonzero((tags >= p.tag) & (tags <= p.last_tag))
+                if span.size == 0:
+                    raise _fail(key, f"place the current probe '{p.name}'", None, f_hz)
+                out[p.name] = complex(cur[span[int(np.argmax(np.abs(cur[span])))]])
+                continue
             k = first[p.tag] + (p.segment - 1)
             if int(tags[k]) != p.tag or int(nums[k]) != base[p.tag] + p.segment - 1:
                 raise _fail(key, f"place the current probe '{p.name}'", None, f_hz)

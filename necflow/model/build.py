@@ -84,7 +84,8 @@ def build_model(design: Design, f_max_hz: float, *, density: float = 1.0,
         sources, loads, probes = [(source, 1.0)], [], []
     else:
         far = spans[feed.wire].end if isinstance(design.antenna, EndFed) else None
-        plan = plan_routed_wires(spans, feed, g, route, cold_far_from=far)
+        gap = grading(design, f_max_hz, 1.0, f_min_hz).finest   # not refined: a physical gap
+        plan = plan_routed_wires(spans, feed, g, route, cold_far_from=far, source_gap=gap)
         planned, sources, loads, probes = plan.wires, plan.sources, plan.loads, plan.probes
         g = plan.grading
     # Connected ends are the very same coordinates: the plan reuses each
@@ -102,6 +103,8 @@ def build_model(design: Design, f_max_hz: float, *, density: float = 1.0,
     src = tuple(Source(first_tag[i], 1, v) for i, v in sources) if route is not None else ()
     lds = tuple(Load(ld.name, first_tag[i], 1, ld.kind, ld.spec) for i, ld in loads)
     prb = tuple(Probe(name, first_tag[i], 1) if which == "first"
+                else Probe(name, first_tag[i[0]], 1, last_tag=last_tag[i[1]])
+                if which == "largest"
                 else Probe(name, last_tag[i], by_tag[last_tag[i]].segments)
                 for name, i, which in probes)
     return WireModel(wires=tuple(wires), feed_tag=first_tag[sources[0][0]], feed_segment=1,

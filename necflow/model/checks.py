@@ -102,7 +102,9 @@ def check_geometry(design: Design, f_max_hz: float, *, density: float = 1.0,
         planned, _ = plan_wires(spans, feed, g)
     else:
         far = w.end if isinstance(a, EndFed) else None
-        planned = plan_routed_wires(spans, feed, g, route, cold_far_from=far).wires
+        gap = grading(design, f_max_hz, 1.0, f_min_hz).finest
+        planned = plan_routed_wires(spans, feed, g, route, cold_far_from=far,
+                                    source_gap=gap).wires
     count = sum(w.segments for w in planned)
     limit = design.model.max_segments
     if count > limit:

@@ -403,7 +403,8 @@ class RoutedPlan:
 
     ``sources`` are ``(piece index, voltage)`` (a split source: two halves of
     0.5 V), ``loads`` ``(piece index, RouteLoad)``, ``probes`` ``(name,
-    piece index, 'first' or 'last' segment)`` where currents are read;
+    piece index, 'first' or 'last' segment)`` where currents are read, or
+    ``(name, (first piece, last piece), 'largest')``;
     ``grading`` the grading the pieces were counted with (expand with it).
     """
 
@@ -415,7 +416,8 @@ class RoutedPlan:
 
 
 def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Grading,
-                      route, cold_far_from: np.ndarray | None = None) -> RoutedPlan:
+                      route, cold_far_from: np.ndarray | None = None,
+                      source_gap: float | None = None) -> RoutedPlan:
     """:func:`plan_wires` with the route's common-mode path attached.
 
     Parameters
@@ -426,13 +428,19 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
     cold_far_from : ndarray, optional
         For an end-fed wire: the radiator's far end; the cold side of the
         source is the end farther from it.
+    source_gap : float, optional
+        Length of a source segment [m], kept when the model is refined (the
+        feed gap is a physical size: the line's attachment there is not
+        refined away); default the grading's finest.
     """
+    gap = grading.finest if source_gap is None else source_gap
     if cold_far_from is not None:
         # an end-fed wire's source is the transformer's gap, of a fixed size:
         # a source refined toward zero at the current minimum of a
         # high-impedance feed does not converge (the average gain test drifts)
-        grading = Grading(grading.longest, max(grading.finest, END_FED_GAP), grading.growth,
-                          grading.junction)
+        gap = max(gap, END_FED_GAP)
+    grading = Grading(grading.longest, max(grading.finest, gap), grading.growth,
+                      grading.junction)
     finest = grading.finest
     k, d = feed
     fed = spans[k]
@@ -484,6 +492,7 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
     cuts = {0.0, total, *map(float, cum)}
     cuts |= {min(e, total) for e, _ in route.sections if e < total}
     load_spans = []
+    first_route = len(pieces)
     for ld in route.loads:
         if ld.at is None:
             continue
@@ -525,26 +534,30 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
             loads.append((idx, here))
             probes.append((here.name, idx, "first"))
     last_route = len(pieces) - 1
+    # the line below its last choke, toward the station: with a floating
+    # entry its largest current is what reaches the station (the current at
+    # the open end itself is zero)
+    below = max((i for i, _ in loads), default=first_route - 1) + 1
     end = node_at[merged[-1]]
     entry_load = next((ld for ld in route.loads if ld.at is None), None)
     r_end = route.radius_at(total)
     if route.entry in ("ground", "resistance") and end[2] > 1e-9:
+        # the wire down to the ground ends in one short segment at the ground
+        # (where the resistance of entry: resistance sits): a long graded
+        # segment at a Sommerfeld-Norton ground contact does not converge
         foot = np.array([end[0], end[1], 0.0])
+        s = min(max(finest, _THICK * r_end), end[2] / 1.5)
+        knee = np.array([end[0], end[1], s])
+        pieces.append(("entry wire", end, knee, r_end))
+        thick[len(pieces) - 1] = _THICK * r_end
+        pieces.append(("entry load" if entry_load is not None else "entry contact", knee, foot,
+                       r_end))
+        fine.add(len(pieces) - 1)
         if entry_load is not None:
-            s = min(max(finest, _THICK * r_end), end[2] / 1.5)
-            knee = np.array([end[0], end[1], s])
-            pieces.append(("entry wire", end, knee, r_end))
-            thick[len(pieces) - 1] = _THICK * r_end
-            pieces.append(("entry load", knee, foot, r_end))
-            fine.add(len(pieces) - 1)
             loads.append((len(pieces) - 1, entry_load))
-            probes.append(("entry", len(pieces) - 1, "first"))
-        else:
-            pieces.append(("entry wire", end, foot, r_end))
-            thick[len(pieces) - 1] = _THICK * r_end
-            probes.append(("entry", len(pieces) - 1, "last"))
+        probes.append(("entry", len(pieces) - 1, "first"))
     else:
-        probes.append(("entry", last_route, "last"))
+        probes.append(("entry", (min(below, last_route), last_route), "largest"))
     return RoutedPlan(_graded(pieces, fine, grading, thick), sources, loads, probes, grading)
 
 

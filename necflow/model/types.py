@@ -151,11 +151,14 @@ class Load:
 
 @dataclass(frozen=True)
 class Probe:
-    """A segment whose current is read (per volt of drive)."""
+    """A segment whose current is read (per volt of drive); with
+    ``last_tag``, the segment of largest current magnitude among the wires
+    ``tag`` to ``last_tag`` (``segment`` unused)."""
 
     name: str
     tag: int
     segment: int
+    last_tag: int | None = None
 
 
 @dataclass(frozen=True, eq=False)

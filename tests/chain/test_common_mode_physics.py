@@ -55,7 +55,7 @@ def test_power_identity_with_choke_heat():
     cm_keys = [k for k in s.p_dissipated_w if k.endswith("(common mode)")]
     assert cm_keys == ["ch (common mode)"]
     heat = s.p_dissipated_w["ch (common mode)"]
-    assert np.all(heat > 0.01 * s.power_available_w)     # a real term, not a zero
+    assert np.all(heat > 0.003 * s.power_available_w)    # a real term (0.5-2.6 % here), not a zero
     total = s.p_mismatch_w + sum(s.p_dissipated_w.values()) + s.p_delivered_w
     np.testing.assert_allclose(total, s.power_available_w, rtol=1e-9)
     terms = sum(v for k, v in s.loss_db.items() if k != "total")

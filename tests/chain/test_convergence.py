@@ -236,3 +236,25 @@ def test_shipped_designs_converge(config):
     for b in rep.bands:
         assert b.swr_change < 0.02, (b.band, b.swr_change)
         assert b.z_change < 0.02 and not b.caution, (b.band, b.z_change)
+
+
+ROUTED = [c for c in SHIPPED if "route:" in (CONFIGS / c).read_text(encoding="utf-8")]
+
+
+@pytest.mark.engine
+@pytest.mark.parametrize("config", ROUTED)
+def test_shipped_routed_designs_common_mode_converges(config):
+    """With the feed line in the model, the common-mode current at the
+    station entry (largest over each band) and the SWR at the radio change by
+    less than 2 % when the segments are doubled (method-of-moments
+    convergence; NEC-2 user guide, Part III: check a model by refining it)."""
+    from necflow.chain import Chain
+    coarse = Chain(load_design(CONFIGS / config))
+    fine = coarse.refined(2.0)
+    np.testing.assert_allclose(fine.system.swr, coarse.system.swr, rtol=0.02)
+    for i, b in enumerate(coarse.bands):
+        sel = coarse.band_index == i
+        ic = np.abs(coarse.common_mode.currents["entry"][sel]).max()
+        jf = np.abs(fine.common_mode.currents["entry"][sel]).max()
+        assert ic > 1e-4, (b.name, ic)          # a real current, not noise
+        assert abs(jf - ic) / ic < 0.02, (b.name, ic, jf)

@@ -21,7 +21,7 @@ from necflow.errors import NecflowWarning
 from necflow.report.html_report import write_report
 from necflow.report.report_data import write_report_data
 from necflow.report.results import results_document, write_json
-from tests.conftest import CONFIGS, dipole_like_solver
+from tests.conftest import demo_text_without_route, dipole_like_solver
 
 CHOKE = "  - {id: cm, choke: {catalog: toroid-coax-low-mix}, power_rating: 1 kW}\n"
 ALTERNATIVE = """report:
@@ -44,7 +44,7 @@ def flat_far_field(model, f, angles):
 
 
 def _demo_texts() -> tuple[str, str]:
-    text = (CONFIGS / "demo.yaml").read_text(encoding="utf-8")
+    text = demo_text_without_route()
     text = text.replace("bands: [80m, 40m, 20m, 17m, 10m]", "bands: [40m, 20m]")
     anchor = "  - {id: coax, line: rg-213"
     assert anchor in text

@@ -9,12 +9,12 @@ import warnings
 import numpy as np
 import pytest
 
-from necflow.chain import evaluate, load_design
+from necflow.chain import evaluate, load_design_text
 from necflow.chain.report import build_report_data
 from necflow.engine.far_field import FarField
 from necflow.errors import NecflowWarning
 from necflow.report.report_data import read_report_data, write_report_data
-from tests.conftest import CONFIGS, dipole_like_solver
+from tests.conftest import demo_text_without_route, dipole_like_solver
 
 
 def flat_far_field(model, f, angles):
@@ -29,7 +29,7 @@ def flat_far_field(model, f, angles):
 
 @pytest.fixture(scope="module")
 def evaluation():
-    return evaluate(load_design(CONFIGS / "demo.yaml"), solver=dipole_like_solver)
+    return evaluate(load_design_text(demo_text_without_route()), solver=dipole_like_solver)
 
 
 def test_system_gain_is_gain_less_loss_at_band_centre(evaluation, tmp_path):
