@@ -257,10 +257,8 @@ def far_field(centres, directions, lengths, currents, frequency_hz, theta, phi, 
     -----
     Each segment is a current element carrying its centre current along its
     whole length: the midpoint rule for the radiation integral along the
-    wire.  For currents that vary like ``cos(k s)`` the relative field
-    error is at most about ``(k l)^2 / 6`` for segment length ``l`` and is in
-    practice far smaller (0.1 % in radiated power on a half-wave dipole of
-    11 segments, see :func:`radiated_power`).
+    wire, whose error is second order in the segment length ``l`` (see
+    :func:`radiated_power` for measured figures).
 
     References
     ----------
@@ -294,7 +292,7 @@ def far_field(centres, directions, lengths, currents, frequency_hz, theta, phi, 
 
 def default_grid(centres, frequency_hz, ground=None) -> tuple[int, int]:
     """Node counts ``(n_theta, n_phi)`` that integrate the radiated power of
-    sources within ``centres`` to about 1e-6 relative.
+    sources at ``centres`` to better than 1e-9 relative (as tested).
 
     The far field's power pattern is a band-limited function of direction:
     its phases ``k r_hat . (r_m - r_n)`` span at most ``k D``, ``D`` the
@@ -382,12 +380,15 @@ def radiated_power(centres, directions, lengths, currents, frequency_hz, ground=
     Notes
     -----
     Discretisation: each segment radiates as a current element carrying its
-    centre current over its whole length (midpoint rule along the wire).
-    For a sinusoidal current the relative error in power is bounded by about
-    ``(k l)^2 / 3`` for segment length ``l``; measured on a half-wave dipole
-    with ``I0 cos(kz)`` it is +0.10 % with 11 segments (``l = lambda / 22``)
-    and below 1e-5 with 201.  The angular quadrature of :func:`default_grid`
-    adds about 1e-6.
+    centre current over its whole length (midpoint rule along the wire), an
+    error second order in the segment length ``l``.  Measured on a half-wave
+    dipole with the current ``I0 cos(kz)`` against its 73.08 ohm: +0.56 %,
+    +0.15 %, +0.026 % and +0.0017 % with 11, 21, 51 and 201 segments, about
+    ``(k l)^2 / 15``.  With currents from a moment-method solve, which are
+    samples at the segment centres, the same error applies on top of the
+    solve's own.  The angular quadrature of :func:`default_grid` adds less
+    than 1e-9 in the cases tested (free space, perfect ground, grounds up to
+    ``|eps_c| ~ 1e6``).
 
     References
     ----------
