@@ -63,6 +63,9 @@ ETA0 = math.sqrt(mu_0 / epsilon_0)
 #: Largest ``segments x directions`` block of complex numbers held at once
 #: (4e6 complex128 = 64 MB per array).
 BLOCK_ELEMENTS = 4_000_000
+#: Most directions in one block (bounds the direction-sized work arrays when
+#: there are few segments).
+MAX_BLOCK_DIRECTIONS = 65_536
 #: Least Gauss-Legendre node count in cos(theta) for the default grid.
 MIN_THETA_NODES = 16
 #: Tolerance on the length of a direction vector.
@@ -118,7 +121,7 @@ def _currents(currents, n):
     return i
 
 
-def _wavenumber(frequency_hz, nfreq):
+def _frequencies(frequency_hz, nfreq):
     f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
     if f.ndim != 1 or not np.all(np.isfinite(f)) or np.any(f <= 0):
         raise ValueError("frequency must be finite and positive, a scalar or shape (nfreq,)")
@@ -274,7 +277,7 @@ def far_field(centres, directions, lengths, currents, frequency_hz, theta, phi, 
     if cur.ndim != 1:
         raise ValueError("far_field takes the currents of one frequency, shape (n,)")
     kind, eps_r, sigma = _ground_spec(ground)
-    f = float(_wavenumber(frequency_hz, 1)[0])
+    f = float(_frequencies(frequency_hz, 1)[0])
     if kind != "free" and np.any(r[:, 2] < 0):
         raise ValueError("segments lie below the ground plane z = 0")
     k = 2.0 * math.pi * f / speed_of_light
@@ -282,7 +285,12 @@ def far_field(centres, directions, lengths, currents, frequency_hz, theta, phi, 
     shape = th.shape
     th, ph = th.ravel(), ph.ravel()
     eps_c = _eps_c(eps_r, sigma, f) if kind == "lossy" else None
-    e_t, e_p = _fields(r, s, ln, cur, k, kind, eps_c, th, ph)
+    e_t = np.empty(th.size, dtype=complex)
+    e_p = np.empty(th.size, dtype=complex)
+    step = max(1, min(MAX_BLOCK_DIRECTIONS, BLOCK_ELEMENTS // r.shape[0]))
+    for a in range(0, th.size, step):
+        e_t[a:a + step], e_p[a:a + step] = _fields(r, s, ln, cur, k, kind, eps_c,
+                                                   th[a:a + step], ph[a:a + step])
     if kind != "free":
         below = th > math.pi / 2
         e_t[below] = 0.0
@@ -403,7 +411,7 @@ def radiated_power(centres, directions, lengths, currents, frequency_hz, ground=
     cur = _currents(currents, r.shape[0])
     single = cur.ndim == 1
     cur2 = cur[None, :] if single else cur
-    f = _wavenumber(frequency_hz, cur2.shape[0])
+    f = _frequencies(frequency_hz, cur2.shape[0])
     kind, eps_r, sigma = _ground_spec(ground)
     if kind != "free" and np.any(r[:, 2] < 0):
         raise ValueError("segments lie below the ground plane z = 0")
@@ -429,7 +437,7 @@ def radiated_power(centres, directions, lengths, currents, frequency_hz, ground=
         eps_c = _eps_c(eps_r, sigma, fi) if kind == "lossy" else None
         # directions in blocks: the field arrays stay small beside the phase blocks.
         total = 0.0
-        step = max(1, BLOCK_ELEMENTS // max(1, r.shape[0]))
+        step = max(1, min(MAX_BLOCK_DIRECTIONS, BLOCK_ELEMENTS // r.shape[0]))
         for a in range(0, th.size, step):
             e_t, e_p = _fields(r, s, ln, cur2[i], k, kind, eps_c, th[a:a + step],
                                ph[a:a + step])
