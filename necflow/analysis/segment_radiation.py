@@ -156,8 +156,8 @@ def reflection_coefficients(cos_theta, eps_c):
     References
     ----------
     .. [1] C. A. Balanis, *Advanced Engineering Electromagnetics*, 2nd ed.,
-       Wiley 2012, sec. 5.3 (Fresnel coefficients at an interface with a
-       lossy medium).
+       Wiley 2012, ch. 5 (reflection at a planar interface, oblique
+       incidence, lossy media).
     .. [2] C. A. Balanis, *Antenna Theory*, 3rd ed., Wiley 2005, sec. 4.8
        (the reflection coefficients of a flat lossy earth in the elevation
        angle ``psi``, ``cos t = sin psi``).

@@ -30,7 +30,7 @@ EULER = 0.5772156649015329
 
 
 def cin(x):
-    """Cin(x) = gamma + ln x - Ci(x) (Balanis, Antenna Theory, 3rd ed., eq. 4-68b)."""
+    """Cin(x) = gamma + ln x - Ci(x) (the definition in Balanis, Antenna Theory, 3rd ed., ch. 4)."""
     return EULER + math.log(x) - sici(x)[1]
 
 
@@ -42,8 +42,8 @@ R11 = ETA0 / (4.0 * math.pi) * cin(2.0 * math.pi)
 def r12_side_by_side(d):
     """Mutual resistance [ohm] of two parallel side-by-side half-wave dipoles
     at spacing ``d`` [m]: eta0 / (4 pi) [2 Ci(u0) - Ci(u1) - Ci(u2)],
-    u0 = k d, u1,2 = k (sqrt(d^2 + l^2) +- l) (Balanis, Antenna Theory, 3rd ed.,
-    eq. 8-71a)."""
+    u0 = k d, u1,2 = k (sqrt(d^2 + l^2) +- l) (from memory of Balanis, Antenna
+    Theory, 3rd ed., eq. 8-71a; references.md)."""
     length = LAM / 2.0
     u0 = K * d
     u1 = K * (math.hypot(d, length) + length)
@@ -98,7 +98,7 @@ def test_segment_discretisation_error_is_as_documented():
 
 
 def test_small_uniform_element():
-    # Balanis, Antenna Theory, 3rd ed., eq. 4-19: R_r = eta (2 pi / 3) (l/lambda)^2
+    # From memory of Balanis, Antenna Theory, 3rd ed., eq. 4-19: R_r = eta (2 pi / 3) (l/lambda)^2
     # (= 80 pi^2 (l/lambda)^2 with eta = 120 pi).  l = 1e-3 lambda: the
     # formula's own error is of order (k l)^2 ~ 4e-5; 0.1 %.
     length = 1e-3 * LAM
@@ -109,7 +109,8 @@ def test_small_uniform_element():
 
 
 def test_short_dipole_with_triangular_current():
-    # Balanis, Antenna Theory, 3rd ed., eq. 4-37: R_r = eta (pi / 6) (l/lambda)^2
+    # From memory of Balanis, Antenna Theory, 3rd ed., eq. 4-37 (references.md):
+    # R_r = eta (pi / 6) (l/lambda)^2
     # (= 20 pi^2 (l/lambda)^2), a quarter of the uniform element's: the
     # triangular current's mean is half its peak.  l = 1e-2 lambda, tilted
     # off the axes (the power cannot depend on orientation); 0.1 % covers the
@@ -136,7 +137,7 @@ def test_frequencies_in_one_call():
 
 
 def test_directivity_from_the_far_field_helper():
-    # Balanis, Antenna Theory, 3rd ed., eq. 4-91: D0 = 4 / Cin(2 pi) = 1.643
+    # From memory of Balanis, Antenna Theory, 3rd ed., sec. 4.6: D0 = 4 / Cin(2 pi) = 1.643
     # (2.15 dBi) broadside to a half-wave dipole; both the field and the
     # power come from the module, the value from the textbook: 0.1 %.
     seg = half_wave()
