@@ -32,11 +32,13 @@ from necflow.analysis.exposure import (
     reflection_factor_for,
     uncontrolled_limit_w_m2,
 )
+from necflow.analysis.segment_radiation import radiated_power
 from necflow.analysis.stress_cautions import ratings_of
 from necflow.analysis.stress_table import stress_rows
 from necflow.chain.loading import load_design
 from necflow.chain.stages import Chain
 from necflow.engine.far_field import average_gain_test, far_field, normalised_efficiency
+from necflow.engine.pynec_adapter import solve_segment_currents
 from necflow.errors import NecflowError, NecflowWarning
 
 FORMAT_VERSION = 1
@@ -277,6 +279,7 @@ def _common_mode_record(evaluation, ff: list[dict], far_field_fn) -> dict | None
                "heat_w_max": {k: float(v[sel].max()) for k, v in cm.load_power_w.items()},
                "swr_max": float(swr[sel].max()), "swr_max_ideal_line": float(swr0[sel].max()),
                "swr_change_max": float(np.max(np.abs(swr[sel] - swr0[sel]) / swr0[sel]))}
+        rec.update(_line_radiation(evaluation, i, fc))
         if b.name in centre_ff:
             (g0,) = far_field_fn(ideal.models[i], np.array([fc]), angles=angles)
             rec["peak_gain_dbi"] = centre_ff[b.name]["peak_gain_dbi"]
@@ -285,9 +288,46 @@ def _common_mode_record(evaluation, ff: list[dict], far_field_fn) -> dict | None
             rec["gain_at_angles_dbi_ideal_line"] = np.asarray(g0.gain_at_angles_dbi).tolist()
         bands.append(rec)
     return {"bands": bands, "entry": d.route.entry,
-            "note": "the line's own radiation is not separable from the antenna's (they "
-                    "couple); the change of SWR and of gain against an ideal line shows "
-                    "what modelling the line changes"}
+            "note": "line_radiated_w is the power the line's outside would radiate with its "
+                    "currents alone (at the band's point nearest the centre, at the radio's "
+                    "power); the line and the antenna couple, so it is not a share of the "
+                    "total: the change of SWR and of gain against an ideal line shows what "
+                    "modelling the line changes"}
+
+
+#: Names of the wires of a route (:func:`necflow.model.plan.plan_routed_wires`).
+_ROUTE_WIRES = ("line", "choke ", "entry ")
+
+
+def _line_radiation(evaluation, i: int, fc: float) -> dict:
+    """The power the line's outside radiates with its own currents alone
+    (:func:`necflow.analysis.segment_radiation.radiated_power`), at the band
+    point nearest ``fc`` and the radio's power [W], and as a fraction of the
+    power reaching the feed point."""
+    m = evaluation.models[i]
+    wires = [w for w in m.wires if w.name == "line" or w.name.startswith(_ROUTE_WIRES[1:])]
+    if not wires:
+        return {}
+    sel = np.flatnonzero(evaluation.band_index == i)
+    k = int(sel[np.argmin(np.abs(evaluation.frequency_hz[sel] - fc))])
+    f = float(evaluation.frequency_hz[k])
+    per_volt = solve_segment_currents(m, np.array([f]), [w.tag for w in wires])[0]
+    centres, dirs, lengths = [], [], []
+    for w in sorted(wires, key=lambda w: w.tag):
+        u = (w.end - w.start) / w.segments
+        ln = float(np.linalg.norm(u))
+        for j in range(w.segments):
+            centres.append(w.start + (j + 0.5) * u)
+            dirs.append(u / ln)
+            lengths.append(ln)
+    g = m.ground
+    ground = (None if not g.has_ground else "perfect" if g.kind == "perfect"
+              else (float(g.permittivity), float(g.conductivity)))
+    v_feed = evaluation.system.node_v[k, -1]
+    p = float(radiated_power(np.array(centres), np.array(dirs), np.array(lengths),
+                             per_volt * v_feed, f, ground=ground))
+    return {"line_radiated_w": p, "line_radiated_at_hz": f,
+            "line_radiated_fraction": p / float(evaluation.system.p_delivered_w[k])}
 
 
 def _index_of(f_all: np.ndarray, f_hz: float) -> int:

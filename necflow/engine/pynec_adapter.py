@@ -233,6 +233,36 @@ def _read_probes(key: str, model: WireModel):
     return read
 
 
+def solve_segment_currents(model: WireModel, frequency_hz, tags) -> np.ndarray:
+    """Current [A per volt of drive] at the centre of every segment of the
+    wires ``tags``, in tag and segment order, ``(nf, nseg)`` complex.
+
+    Raises
+    ------
+    EngineError
+    """
+    global _solves
+    key = model.key()
+    f = _check_frequencies(frequency_hz, key)
+    want = np.asarray(sorted(int(t) for t in tags))
+    ctx = _prepare(model, key)
+    z_read = _read_impedance(key, model)
+
+    def read(ctx, i: int, f_hz: float) -> np.ndarray:
+        z_read(ctx, i, f_hz)
+        try:
+            sc = ctx.get_structure_currents(i)
+            cur = np.asarray(sc.get_current(), dtype=complex).ravel()
+            t = np.asarray(sc.get_current_segment_tag(), dtype=int).ravel()
+        except Exception as exc:
+            raise _fail(key, "return the currents", exc, f_hz) from exc
+        return cur[np.isin(t, want)]
+
+    rows = _sweep(ctx, model, f, key, read)
+    _solves += int(f.size)
+    return np.array(rows, dtype=complex)
+
+
 def solve_feedpoint(model: WireModel, frequency_hz) -> np.ndarray:
     """Feedpoint impedance of a wire model at each frequency.
 

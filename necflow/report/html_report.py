@@ -264,7 +264,8 @@ def _common_mode(report: dict) -> str:
     p = report["radio_power_w"]
     head = (["band"] + [f"current A at {_e(k)}" for k in probes]
             + [f"heat W in {_e(k)}" for k in loads]
-            + ["SWR max (line modelled / ideal line)", "SWR change", "peak gain dBi (modelled / "
+            + ["line radiates W (own currents)",
+               "SWR max (line modelled / ideal line)", "SWR change", "peak gain dBi (modelled / "
                "ideal)"] + [f"gain dBi {_e(lab)} (modelled / ideal)" for lab in labels])
     rows = []
     for b in cm["bands"]:
@@ -273,7 +274,8 @@ def _common_mode(report: dict) -> str:
         rows.append([_e(b["band"])]
                     + [_num(b["current_a_max"][k], ".3f") for k in probes]
                     + [_num(b["heat_w_max"][k], ".2f") for k in loads]
-                    + [f"{_num(b['swr_max'])} / {_num(b['swr_max_ideal_line'])}",
+                    + [_num(b.get("line_radiated_w"), ".2f"),
+                       f"{_num(b['swr_max'])} / {_num(b['swr_max_ideal_line'])}",
                        _num(100 * b["swr_change_max"], ".1f") + " %",
                        f"{_num(b.get('peak_gain_dbi'), '.1f')} / "
                        f"{_num(b.get('peak_gain_dbi_ideal_line'), '.1f')}"]

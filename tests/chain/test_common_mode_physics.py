@@ -192,3 +192,33 @@ def test_route_errors_are_one_line_with_field(tmp_path, text, field):
     lines = [ln for ln in r.stderr.splitlines() if ln.strip()]
     assert len(lines) == 1, out
     assert field in lines[0] and "design.yaml" in lines[0], out
+
+
+# ----------------------------------------------------------------------------
+# The power the line's outside radiates on its own
+
+
+def _line_record(antenna, route, feed=None):
+    from necflow.chain.report import _line_radiation
+    ch = _chain(antenna, feed or [{"id": "l1", "line": "rg-213", "length": "12 m"}], route,
+                ground="free-space")
+    ev = ch.evaluation
+    return _line_radiation(ev, 0, 14.175e6), ev
+
+
+def test_line_radiation_vanishes_by_symmetry_and_is_bounded_otherwise():
+    # Basis: symmetry (a balanced line in the symmetry plane of a symmetric
+    # doublet carries no common-mode current, so its outside radiates
+    # nothing), and energy: with an off-centre feed the line's own
+    # radiation is positive and, for a line a quarter of the antenna's
+    # length carrying a fraction of its current, a small share of the power
+    # at the feed point (it is not a share of the total: the line and the
+    # antenna interfere, so only 0 < P < P_feed is asserted).
+    doublet = {"shape": "doublet", "span": "20 m", "height": "10 m",
+               "wire": {"diameter": "2 mm", "material": "copper"}}
+    window = [{"id": "l1", "line": "window-450", "length": "8 m"}]
+    sym, _ = _line_record(doublet, {"points": [[0.0, 0.0, 4.0]], "entry": "floating"}, window)
+    asym, ev = _line_record(_offc(), {"points": [[-4.0, 3.0, 4.0]], "entry": "floating"})
+    assert sym["line_radiated_fraction"] < 1e-9
+    assert 1e-4 < asym["line_radiated_fraction"] < 1.0
+    assert asym["line_radiated_w"] < float(ev.system.p_delivered_w.max())
