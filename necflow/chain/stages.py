@@ -284,7 +284,8 @@ class Chain:
     @cached_property
     def feed(self) -> FeedChain:
         """The feed chain's elements, antenna side first."""
-        return build_chain(self.design.feed, r_radio=self.design.radio.impedance)
+        return build_chain(self.design.feed, r_radio=self.design.radio.impedance,
+                           bands=self.bands)
 
     @cached_property
     def _ideal_system(self):
