@@ -1156,13 +1156,22 @@ def _default_angles() -> list[ElevationOfInterest]:
 
 
 class TunerSpec(Strict):
-    """The matching unit the report's alternatives add: a lossy L-network."""
+    """The tuner the report's alternatives add (a shack tuner after the
+    chain, a remote one at the feedpoint): the design's own tuner element
+    when it has one, else a high-pass T of these parts."""
 
+    capacitor_min: Capacitance = quantity("capacitance", default="15 pF", gt=0, le=100e-9,
+                                          unit="pF", description="Smallest setting of each "
+                                          "capacitor")
+    capacitor_max: Capacitance = quantity("capacitance", default="250 pF", gt=0, le=100e-9,
+                                          unit="pF", description="Largest setting of each "
+                                          "capacitor")
+    inductor_max: Inductance = quantity("inductance", default="20 uH", gt=0, le=1e-3,
+                                        unit="uH", description="Largest setting of its "
+                                        "roller inductor")
     inductor_q: float = Field(100.0, gt=0, description="Unloaded Q of its inductor "
                               "(100 is common practice for a roller or tapped coil)")
-    capacitor_q: float = Field(1000.0, gt=0, description="Unloaded Q of its capacitor")
-    max_swr: float = Field(10.0, gt=1, description="Matching range: the highest SWR, "
-                           "against the radio's impedance, the unit can match")
+    capacitor_q: float = Field(1000.0, gt=0, description="Unloaded Q of its capacitors")
     remote_line: str | None = Field(None, description="Unbalanced line type from the unit "
                                     "at the feedpoint to the radio (default: the design's "
                                     "first unbalanced line, else rg-213)")
@@ -1179,7 +1188,8 @@ class AlternativeSpec(Strict):
                                 description="Its feed chain from the antenna toward the "
                                 "radio, with the keys of 'feed'")
     tuner: Literal["none", "radio", "feedpoint"] = Field(
-        "none", description="Add the matching unit at the radio or at the feedpoint")
+        "none", description="Add the report's tuner (report.tuner) at the radio or at the "
+        "feedpoint")
 
     @model_validator(mode="after")
     def _unique_ids(self) -> AlternativeSpec:
@@ -1205,7 +1215,7 @@ class ReportSpec(Strict):
     exposure_duty: float = Field(1.0, gt=0, le=1, description="Duty factor of the mode for "
                                  "the RF exposure estimate (1, a continuous carrier, is the "
                                  "cautious choice)")
-    tuner: TunerSpec = Field(default_factory=TunerSpec, description="The matching unit of the "
+    tuner: TunerSpec = Field(default_factory=TunerSpec, description="The tuner of the "
                              "alternatives")
     alternatives: list[AlternativeSpec] = Field(default_factory=list,
                                                 max_length=limits.MAX_ALTERNATIVES,
