@@ -280,3 +280,22 @@ def test_design_errors_are_one_line_with_file_line_and_field(old, new, line, fie
 def test_a_design_with_a_tuner_loads():
     d = load_design_text(DESIGN)
     assert d.feed[3].tuner == "high-pass-t" and d.feed[1].switch.bypass == ["30m"]
+
+
+def test_a_search_sets_a_switch_state_per_band():
+    from necflow.config.fields import apply, current_value, param
+    from necflow.config.sections import SearchParam
+    d = load_design_text(DESIGN)
+    p = param(d, "feed.cap.switch.40m", SearchParam(choices=["in", "out"]))
+    assert p.choices == ("in", "out") and not p.geometry
+    assert current_value(d, "feed.cap.switch.30m") == "out"
+    assert current_value(d, "feed.cap.switch.40m") == "in"
+    d2 = apply(d, {"feed.cap.switch.40m": "out", "feed.cap.switch.30m": "in"})
+    assert d2.feed[1].switch.bypass == ["40m"]
+    # an element without a switch gets one
+    d3 = apply(d, {"feed.ladder.switch.30m": "out"})
+    assert d3.feed[0].switch.bypass == ["30m"] and d.feed[0].switch is None
+    with pytest.raises(ValueError, match="not one of the design's bands"):
+        param(d, "feed.cap.switch.17m", SearchParam(choices=["in", "out"]))
+    with pytest.raises(ValueError, match="choices"):
+        param(d, "feed.cap.switch.40m", SearchParam(choices=["on", "off"]))
