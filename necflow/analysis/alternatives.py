@@ -188,12 +188,16 @@ def standard_alternatives(design, f, z_feed, chain: FeedChain) -> list[Alternati
     what = f"a {tuner.tuner.topology} tuner"
     out = [alt("as designed", "the feed system of the design file", chain)]
     if series:
+        mine = chain.with_elements([e for e in chain.elements if e.kind != "series"])
         out.append(alt("without series parts", "the design without " + ", ".join(series),
-                       bare))
+                       mine))
+    # a design that already ends in a tuner at the radio is its own shack-tuner row
+    shack = not (chain.elements and chain.elements[-1].kind == "tuner")
     removed = " (its own tuner taken out)" if len(no_tuner) < len(chain) else ""
-    out.append(alt("shack tuner", f"the design's chain{removed}, then {what} in the shack",
-                   _with_tuner(no_tuner, tuner, "radio"), TUNER_ID))
-    if series:
+    if shack:
+        out.append(alt("shack tuner", f"the design's chain{removed}, then {what} in the shack",
+                       _with_tuner(no_tuner, tuner, "radio"), TUNER_ID))
+    if series and shack:
         out.append(alt("shack tuner without series parts", f"the design without "
                        f"{', '.join(series)}, then {what} in the shack",
                        _with_tuner(bare, tuner, "radio"), TUNER_ID))
