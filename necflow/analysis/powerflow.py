@@ -279,7 +279,8 @@ def unmatched(system: SystemResponse) -> np.ndarray:
     tuners, relays = getattr(system, "tuners", {}), getattr(system, "relays", {})
     out = np.zeros(np.shape(system.swr), dtype=bool)
     for tid, net in tuners.items():
-        off = relays[tid].out if tid in relays else False
+        off = (np.asarray(relays[tid].out, dtype=bool) if tid in relays
+               else np.zeros(out.shape, dtype=bool))
         out |= ~np.asarray(net.can_match, dtype=bool) & ~off
     return out
 
