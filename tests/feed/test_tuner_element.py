@@ -299,3 +299,36 @@ def test_a_search_sets_a_switch_state_per_band():
         param(d, "feed.cap.switch.17m", SearchParam(choices=["in", "out"]))
     with pytest.raises(ValueError, match="choices"):
         param(d, "feed.cap.switch.40m", SearchParam(choices=["on", "off"]))
+
+
+def test_tuning_chart_rows_csv_and_report_tables():
+    from necflow.analysis.tuning import WHERE, chart_csv, chart_frequencies, tuning_chart
+    from necflow.report.html_report import _switching, _tuning
+    bands = BANDS[:2]
+    f3 = chart_frequencies(bands)
+    assert f3.tolist() == [7.0e6, 7.15e6, 7.3e6, 10.1e6, 10.125e6, 10.15e6]
+    z3 = np.array([40 - 600j, 47 - 525j, 55 - 450j, 2500 + 1500j, 2600 + 1400j, 2700 + 1300j])
+    feed = _feed({"tuner": "high-pass-t", "switch": {"bypass": ["30m"]},
+                  "capacitor": {"min": "15 pF", "max": "250 pF", "voltage_rating": "300 V"}})
+    s = analyse(build_chain(feed, 50.0, bands), f3, z3, power_w=100.0)
+    rows = tuning_chart(s, bands, 1500.0, ratings_of(feed))
+    assert [(r["band"], r["where"]) for r in rows] == [(b.name, w) for b in bands for w in WHERE]
+    r = rows[1]
+    assert r["settings"]["c2"] == s.tuners["tuner"].settings["C2"][1]
+    assert r["v_peak_worst"]["c1"] == pytest.approx(r["v_peak"]["c1"] * math.sqrt(15.0))
+    assert "exceeds its 300 V rating" in r["caution"]
+    assert not rows[4]["in_circuit"] and "switched out" in rows[4]["caution"]
+    text = chart_csv(rows, 100.0, 1500.0)
+    head = text.splitlines()[0].split(",")
+    assert head[4:7] == ["c1_pf", "c2_pf", "l_uh"] and "c1_v_peak_at_1500w" in head
+    assert float(text.splitlines()[2].split(",")[4]) == pytest.approx(
+        r["settings"]["c1"] * 1e12, rel=1e-3)
+    html = _tuning({"tuning": rows}, {"radio_power_w": 100.0, "worst_case_power_w": 1500.0})
+    assert "Tuning chart" in html and "switched out on this band" in html
+    relays = [{"id": "tuner", "relays": 2, "bands": [
+        {"band": "40m", "closed": False, "element_out": False, "v_open_peak": 123.0,
+         "i_closed_rms": None},
+        {"band": "30m", "closed": True, "element_out": True, "v_open_peak": None,
+         "i_closed_rms": 1.5}]}]
+    sw = _switching({"relays": relays})
+    assert "closed, out" in sw and "open, in" in sw and "2 relay(s) in all" in sw
