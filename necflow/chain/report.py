@@ -135,13 +135,18 @@ def _alternative_record(alt: Alternative, evaluation, n_points: int, gains: dict
                "loss_db": loss, "loss_db_mean": float(np.mean(s.loss_db["total"][sel])),
                "delivered_w": float(s.p_delivered_w[c]),
                "system_gain_dbi": None if g is None else system_gain_dbi(g, loss["total"])}
-        if alt.tuner is not None:
-            t = alt.tuner
-            rec["tuner"] = {"can_match_all": bool(np.all(t.can_match[sel])),
-                            "can_match_centre": bool(t.can_match[c]),
-                            "loss_db": float(t.loss_db[c]), "topology": str(t.topology[c]),
-                            "inductance_h": float(t.inductance_h[c]),
-                            "capacitance_f": float(t.capacitance_f[c])}
+        tuners = {}
+        for tid, t in s.tuners.items():
+            off = s.relays[tid].out if tid in s.relays else np.zeros(s.f.size, bool)
+            if off[c]:
+                continue
+            tuners[tid] = {"can_match_all": bool(np.all(t.can_match[sel] | off[sel])),
+                           "can_match_centre": bool(t.can_match[c]),
+                           "loss_db": float(t.loss_db[c]), "topology": t.topology,
+                           "reason": str(t.reason[c]),
+                           "settings": {k.lower(): float(v[c]) for k, v in t.settings.items()}}
+        if tuners:
+            rec["tuners"] = tuners
         bands.append(rec)
     return {"name": alt.name, "description": alt.description, "chain": alt.chain,
             "bands": bands,
