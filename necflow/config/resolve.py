@@ -73,6 +73,8 @@ def _field_value(model: BaseModel, name: str, value: Any) -> Any:
         return _ratio_text(value)
     if name in ("start", "end") and isinstance(value, tuple):
         return [exact_quantity(c, "length", extra.get("unit")) for c in value]
+    if name == "points" and isinstance(value, list) and value and isinstance(value[0], tuple):
+        return [[exact_quantity(c, "length", extra.get("unit")) for c in p] for p in value]
     if "dimension" in extra and isinstance(value, float):
         return exact_quantity(value, extra["dimension"], extra.get("unit"))
     return _plain(value)
