@@ -12,6 +12,7 @@ checks of its options and its printing:
   the live progress display)
 * :mod:`necflow.cli.batch`: ``batch``
 * :mod:`necflow.cli.calibrate`: ``fit``, ``trim``, ``tolerance``
+* :mod:`necflow.cli.start`: ``new`` (starter designs and examples), ``schema``
 
 Errors arrive as :class:`necflow.errors.NecflowError` and are mapped to one
 line on stderr and an exit status here, and only here (:func:`main`):
@@ -21,7 +22,8 @@ line on stderr and an exit status here, and only here (:func:`main`):
 1     the job cannot give what was asked: ``check`` found a modelling rule
       broken at error level, and ``evaluate`` refuses to solve such a model
       (the same rule); ``trim`` reached none of its targets
-2     bad input (design file, arguments, missing files)
+2     bad input (design file, arguments, missing files); every problem of a
+      design file is printed, one line each
 3     the engine failed on a valid model
 70    an internal error (a bug: rerun with ``--debug`` and report it)
 130   interrupted (SIGINT, Ctrl-C)
@@ -46,6 +48,9 @@ from necflow.cli import parsers
 from necflow.cli.status import INTERNAL_ERROR, INTERRUPTED, NOT_MET, OK, TERMINATED
 from necflow.errors import ConfigError, NecflowError, NecflowWarning
 
+#: Most problems of one design file printed; the rest are counted.
+MAX_PROBLEMS = 20
+
 __all__ = ["INTERNAL_ERROR", "INTERRUPTED", "NOT_MET", "OK", "TERMINATED", "main"]
 
 
@@ -64,6 +69,7 @@ def _parser() -> argparse.ArgumentParser:
     parsers.add_optimize_parsers(sub)    # optimize
     parsers.add_batch_parsers(sub)       # batch
     parsers.add_calibrate_parsers(sub)   # fit, trim, tolerance
+    parsers.add_start_parsers(sub)       # new, schema
     return p
 
 
@@ -93,7 +99,9 @@ def main(argv: list[str] | None = None) -> int:
                 and exc.file in (None, str(design)) and exc.field
                 and not exc.field.startswith("--")):
             exc = importlib.import_module("necflow.config.load").locate(exc, design)
-        print(f"necflow: error: {exc}", file=sys.stderr)
+        # a design file's problems all at once, one line each (at most MAX_PROBLEMS)
+        for line in (exc.lines(MAX_PROBLEMS) if isinstance(exc, ConfigError) else [str(exc)]):
+            print(f"necflow: error: {line}", file=sys.stderr)
         return exc.exit_code
     except KeyboardInterrupt:
         print("necflow: interrupted", file=sys.stderr)

@@ -125,3 +125,29 @@ def add_calibrate_parsers(sub) -> None:
     m.add_argument("--plot", metavar="PNG", help="write the SWR-spread plot here")
     m.add_argument("--json", action="store_true", help="print the band table as JSON")
     m.set_defaults(handler="necflow.cli.calibrate:cmd_tolerance")
+
+
+def add_start_parsers(sub) -> None:
+    """Add ``new`` and ``schema`` to the command's sub-parsers."""
+    # the starter names, without importing the module that writes them
+    shapes = ("doublet", "inverted-v", "end-fed", "off-centre", "wires")
+    n = sub.add_parser("new", help="write a commented starter design (or a shipped example) "
+                       "to start from")
+    n.add_argument("shape", nargs="?", choices=shapes, metavar="SHAPE",
+                   help=f"the starter: {', '.join(shapes)}")
+    n.add_argument("--bands", nargs="+", metavar="BAND", help="bands of the starter, e.g. "
+                   "'80m 40m 20m' or 80m,40m (the lengths scale with the lowest)")
+    n.add_argument("--region", type=int, default=2, choices=(1, 2, 3),
+                   help="ITU region of the band table (default 2)")
+    n.add_argument("--example", metavar="NAME", help="write a shipped example design "
+                   "instead (see --list)")
+    n.add_argument("--list", action="store_true", help="list the starters and the examples")
+    n.add_argument("--out", metavar="FILE", help="write here instead of to stdout (an "
+                   "existing file is not replaced)")
+    n.set_defaults(handler="necflow.cli.start:cmd_new")
+
+    s = sub.add_parser("schema", help="write the JSON Schema of the design file, for "
+                       "editors (the starters' first line points to "
+                       "necflow-design.schema.json)")
+    s.add_argument("--out", metavar="FILE", help="write here instead of to stdout")
+    s.set_defaults(handler="necflow.cli.start:cmd_schema")

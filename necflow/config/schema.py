@@ -97,6 +97,19 @@ Current = Annotated[float, BeforeValidator(_to_si("current"))]
 Angle = Annotated[float, BeforeValidator(_to_si("angle"))]
 
 
+def _to_diameter(v: Any, info: ValidationInfo) -> float:
+    """A wire's diameter: a length, or a gauge ('14 AWG', '1.5 mm2')."""
+    if _si_number(v, info):
+        return units.finite(float(v), "length")
+    try:
+        return units.parse_diameter(v)
+    except units.UnitError as exc:
+        raise ValueError(str(exc)) from None
+
+
+Diameter = Annotated[float, BeforeValidator(_to_diameter)]
+
+
 def _fraction_or_length(v: Any) -> float | tuple[str, float]:
     """A feed position: a plain fraction 0..1 of the wire, a percentage
     (``"33 %"``) or a distance from the wire's start (``"9 m"``)."""
@@ -188,8 +201,9 @@ WIRE_MATERIALS = ("copper", "hard-drawn-copper", "aluminium", "copper-clad-steel
 class WireSpec(Strict):
     """Conductor of the radiator."""
 
-    diameter: Length = quantity("length", default="2 mm", unit="mm", gt=0, le=1.0,
-                                description="Conductor diameter")
+    diameter: Diameter = quantity("length", default="2 mm", unit="mm", gt=0, le=1.0,
+                                  description="Conductor diameter, or its gauge ('14 AWG', "
+                                  "'1.5 mm2')")
     material: str = Field("copper", description="Conductor material, for conductor loss: "
                           + ", ".join(WIRE_MATERIALS))
 
@@ -471,8 +485,9 @@ class WireItem(Strict):
     start: Point = Field(..., description="Start point [x, y, z]",
                          json_schema_extra={"unit": "m"})
     end: Point = Field(..., description="End point [x, y, z]", json_schema_extra={"unit": "m"})
-    diameter: Length | None = quantity("length", default=None, unit="mm", gt=0, le=1.0,
-                                       description="Diameter (default: the list's 'wire.diameter')")
+    diameter: Diameter | None = quantity("length", default=None, unit="mm", gt=0, le=1.0,
+                                         description="Diameter or gauge (default: the list's "
+                                         "'wire.diameter')")
 
     @model_validator(mode="after")
     def _length(self) -> WireItem:
@@ -531,22 +546,35 @@ Antenna = Annotated[Doublet | OffCentre | InvertedV | WireList | Sloper | DeltaL
 # Ground
 
 GROUND_MODELS = ("free-space", "perfect", "reflection", "sommerfeld")
+#: The soil of a real-ground model that names none: the middle of the
+#: catalog's range (ITU-R P.527 medium dry ground).
+DEFAULT_SURFACE = "medium-dry"
 
 
 class Ground(Strict):
     """The ground under the antenna."""
 
     model: Literal["free-space", "perfect", "reflection", "sommerfeld"] = Field(
-        ..., description="free-space; perfect; reflection (reflection-coefficient "
+        "sommerfeld", description="free-space; perfect; reflection (reflection-coefficient "
         "approximation, for wires well above ground); sommerfeld (Sommerfeld-Norton, "
         "accurate near the ground)")
     surface: str | None = Field(None, description="Named surface from the ground catalog "
                                 "(ITU-R P.527), e.g. medium-dry; or give permittivity and "
-                                "conductivity")
+                                "conductivity (with neither: medium-dry)")
     permittivity: float | None = Field(None, ge=1, le=100, description="Relative permittivity "
                                        "of the soil (1 to 100; sea water is about 70-81)")
     conductivity: Conductivity | None = quantity("conductivity", default=None, gt=0, le=10.0,
                                                  description="Soil conductivity")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _default_soil(cls, data: Any) -> Any:
+        """A real-soil model with no soil given stands on DEFAULT_SURFACE."""
+        if isinstance(data, dict) and data.get("model", "sommerfeld") in ("reflection",
+                                                                          "sommerfeld") \
+                and not {"surface", "permittivity", "conductivity"} & data.keys():
+            return {**data, "surface": DEFAULT_SURFACE}
+        return data
 
     @model_validator(mode="after")
     def _constants(self) -> Ground:
@@ -1281,7 +1309,8 @@ class Design(Strict):
                                    "from the band table, or entries with "
                                    "name/low/high/points/weight")
     antenna: Antenna = Field(..., description="The radiator")
-    ground: Ground = Field(..., description="The ground")
+    ground: Ground = Field(default_factory=Ground, description="The ground (default: "
+                           "Sommerfeld-Norton over medium-dry soil, which suits any height)")
     feed: list[Element] = Field(..., max_length=limits.MAX_FEED_ELEMENTS,
                                 description="Feed chain from the antenna toward the radio "
                                 "(an empty list feeds the antenna directly)")
