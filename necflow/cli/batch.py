@@ -10,6 +10,7 @@ from rich.console import Console
 from rich.table import Table
 
 from necflow.cli.optimize import check_workers
+from necflow.cli.progress import steps_of
 from necflow.cli.status import OK
 from necflow.optimize.batch import run_batch, summary_rows
 
@@ -24,9 +25,12 @@ def run_batch_command(args, out: TextIO) -> int:
 
 
     check_workers(args.workers, getattr(args, "force_workers", False))
+    steps = steps_of(args, "batch", sys.stderr)
+    steps.note(f"reading {args.study}")
     spec, summaries, skipped, folder = run_batch(
         args.study, Path(args.out) if args.out else None, workers=args.workers,
-        storage=args.storage)
+        storage=args.storage, on_step=steps)
+    steps.close()
     head, rows = summary_rows(spec, summaries)
     n = len(spec.matrix) + 4  # cell, matrix keys, cost, worst SWR, loss (bands: summary.csv)
     head, rows = head[:n], [r[:n] for r in rows]

@@ -9,6 +9,7 @@ never print.
 from __future__ import annotations
 
 import json
+import sys
 from pathlib import Path
 
 from necflow import fileio, units
@@ -19,6 +20,7 @@ from necflow.calibrate.tolerance import monte_carlo, tolerance_figure
 from necflow.calibrate.trim import resolve_targets, trim_design
 from necflow.catalog.bands import resolve_bands
 from necflow.chain import load_design
+from necflow.cli.progress import steps_of
 from necflow.cli.status import OK
 from necflow.config.fields import build_params, parse_range_option
 from necflow.config.resolve import resolved_yaml
@@ -67,7 +69,8 @@ def _fmt(p, v) -> str:
 
 
 def cmd_fit(args) -> int:
-
+    steps = steps_of(args, "fit", sys.stderr)
+    steps.note(f"reading {args.design} and the sweeps")
     design = load_design(args.design)
     if not 1 <= args.starts <= 1000:
         raise ConfigError(f"give 1 to 1000 starting points, got {args.starts}",
@@ -89,7 +92,8 @@ def cmd_fit(args) -> int:
     params = build_params(design, section, key="uncertain", file=args.design)
     responder = Responder(design, sweeps)
     result = fit_design(design, sweeps, params, starts=args.starts, seed=args.seed,
-                        responder=responder)
+                        responder=responder, on_step=steps)
+    steps(0, None, "the model before and after against the sweeps")
     before, model = compare(design, sweeps, responder)
     after, calibrated = compare(result.design, sweeps, responder)
     out = _out_folder(Path(args.out) if args.out else Path("runs") / f"{design.name}-fit")
@@ -101,6 +105,7 @@ def cmd_fit(args) -> int:
     fileio.save_figure(overlay_figure(sweeps, model, calibrated_mags=calibrated,
                                       title=f"{design.name}: model and measurement"),
                        out / "overlay.png", dpi=110)
+    steps.close()
     print(f"{design.name}: fitted {len(params)} field(s) to {len(sweeps)} sweep(s) "
           f"({'complex reflection' if result.complex_data else 'SWR magnitude only'}), "
           f"{result.solves} antenna solves")
@@ -132,7 +137,8 @@ def _band_line(b) -> str:
 
 
 def cmd_trim(args) -> int:
-
+    steps = steps_of(args, "trim", sys.stderr)
+    steps.note(f"reading {args.design}")
     design = load_design(args.design)
     _seed(args.seed)
     given = {}
@@ -149,7 +155,8 @@ def cmd_trim(args) -> int:
             raise ConfigError(f"{band}: {exc.message}", field="--target") from None
     targets = {**design.targets, **given}
     adjust = _checked_ranges(design, args.adjust, "--adjust") if args.adjust else None
-    r = trim_design(design, targets, adjust, seed=args.seed)
+    r = trim_design(design, targets, adjust, seed=args.seed, on_step=steps)
+    steps.close()
     print(f"{design.name}: targets " + ", ".join(
         f"{t.band.name} {t.frequency_hz / 1e6:.4g} MHz" + (" (centre)" if t.how == "centre"
                                                            else "") for t in r.targets))
@@ -184,13 +191,20 @@ def cmd_trim(args) -> int:
 
 
 def cmd_tolerance(args) -> int:
-
+    steps = steps_of(args, "tolerance", sys.stderr)
+    steps.note(f"reading {args.design}")
     design = load_design(args.design)
     if args.samples is not None and not 1 <= args.samples <= MAX_SAMPLES:
         raise ConfigError(f"give 1 to {MAX_SAMPLES:,} cases, got {args.samples}",
                           field="--samples")
     _seed(args.seed)
-    r = monte_carlo(design, samples=args.samples, seed=args.seed)
+    r = monte_carlo(design, samples=args.samples, seed=args.seed, on_step=steps)
+    if args.plot:
+        steps(0, None, f"plotting {args.plot}")
+        fileio.save_figure(tolerance_figure(r, title=f"{design.name}: tolerance, "
+                                            f"{r.swr.shape[0]} cases, seed {r.seed}"),
+                           args.plot, dpi=110)
+    steps.close()
     rows = r.band_table()
     if args.json:
         print(json.dumps({"seed": r.seed, "cases": int(r.swr.shape[0]),
@@ -206,10 +220,6 @@ def cmd_tolerance(args) -> int:
                   f"{x['swr_max_p95']:11.2f}")
         print("yield: share of cases within the SWR limit across the whole band; within: "
               "mean share of the band's points within it")
-    if args.plot:
-        fileio.save_figure(tolerance_figure(r, title=f"{design.name}: tolerance, "
-                                            f"{r.swr.shape[0]} cases, seed {r.seed}"),
-                           args.plot, dpi=110)
-        if not args.json:
-            print(f"plot: {args.plot}")
+    if args.plot and not args.json:
+        print(f"plot: {args.plot}")
     return OK

@@ -10,6 +10,7 @@ from rich.console import Console
 
 from necflow.chain import Chain, load_design, report_data
 from necflow.chain.convergence import check_convergence
+from necflow.cli.progress import steps_of
 from necflow.cli.status import NOT_MET, OK
 from necflow.errors import ConfigError, RulesBroken
 from necflow.model import summarize
@@ -28,10 +29,18 @@ def _finding_line(fd) -> str:
 
 
 def cmd_check(args) -> int:
+    steps = steps_of(args, "check", sys.stderr)
+    steps.note(f"reading {args.design}")
     design = load_design(args.design)
     chain = Chain(design)
     summary = summarize(chain.wire_model, design, chain.f_min, chain.f_max)
     findings = chain.findings
+    broken = any(fd.severity == "error" for fd in findings)
+    report = None
+    if not args.no_convergence and not broken:
+        steps(0, None, "convergence check (the top of each band with twice the segments)")
+        report = _convergence(design)
+    steps.close()
     print(f"{args.design}: design '{design.name}' is valid.")
     for line in summary.format():
         print(line)
@@ -39,27 +48,27 @@ def cmd_check(args) -> int:
         print("Modelling rules: all satisfied.")
     for fd in findings:
         print(_finding_line(fd))
-    broken = any(fd.severity == "error" for fd in findings)
     if not args.no_convergence:
         if broken:
             print("Convergence check skipped: the model breaks a modelling rule.")
+        elif isinstance(report, str):
+            print(f"Convergence check skipped: {report}")
         else:
-            _print_convergence(design)
+            for line in report.format():
+                print(line)
+            for c in report.cautions:
+                print(f"caution: {c}")
     return _rule_status(findings, print)
 
 
-def _print_convergence(design) -> None:
+def _convergence(design):
+    """The convergence check's report, or why it was skipped (text)."""
     try:
-        report = check_convergence(design)
+        return check_convergence(design)
     except ConfigError as exc:
         if exc.field != "model.max_segments":
             raise
-        print(f"Convergence check skipped: {exc.message}")
-        return
-    for line in report.format():
-        print(line)
-    for c in report.cautions:
-        print(f"caution: {c}")
+        return exc.message
 
 
 def _rule_status(findings, say) -> int:
@@ -73,8 +82,21 @@ def _rule_status(findings, say) -> int:
     return OK
 
 
+def _check_out(out: Path) -> None:
+    """Refuse a run folder that cannot be made (a file in its way) before
+    anything is solved."""
+    for p in (out, *out.parents):
+        if p.exists():
+            if not p.is_dir():
+                raise ConfigError(f"cannot create the run folder {out}: '{p}' is a file",
+                                  field="--out")
+            return
+
+
 def cmd_evaluate(args) -> int:
     started = run_folder.now_utc()
+    steps = steps_of(args, "evaluate", sys.stderr)
+    steps.note(f"reading {args.design}")
     design = load_design(args.design)
     if args.study is not None and not (Path(args.study) / "best.yaml").is_file():
         raise ConfigError(f"'{args.study}' is not a study's run folder (it holds no best.yaml); "
@@ -87,22 +109,26 @@ def cmd_evaluate(args) -> int:
             if fd.severity == "error":
                 print(_finding_line(fd))
         raise
-    evaluation = chain.evaluation
     out = Path(args.out) if args.out else run_folder.default_run_dir(design.name)
-    report_doc = report_data(chain, study_dir=args.study)
+    _check_out(out)
+    chain.solve(steps)
+    evaluation = chain.evaluation
+    report_doc = report_data(chain, study_dir=args.study, on_step=steps)
+    steps(0, None, "writing the run folder (tables, plots, report)")
     doc = run_folder.write_run_folder(evaluation, report_doc, out,
                                       config_path=str(args.design), started=started,
                                       argv=["necflow", *sys.argv[1:]])
     convergence = None
     if args.convergence:
-        try:
-            convergence = check_convergence(design)
+        steps(0, None, "convergence check (the top of each band with twice the segments)")
+        report = _convergence(design)
+        if isinstance(report, str):
+            doc["convergence"] = {"skipped": report}
+        else:
+            convergence = report
             doc["convergence"] = convergence.to_dict()
-        except ConfigError as exc:
-            if exc.field != "model.max_segments":
-                raise
-            doc["convergence"] = {"skipped": exc.message}
         write_json(doc, out / "results.json")
+    steps.close()
     if args.json:
         json.dump(doc, sys.stdout, indent=1)
         print()

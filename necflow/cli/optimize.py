@@ -26,7 +26,12 @@ from necflow.optimize.outputs import band_table_text
 from necflow.optimize.problem.robust import check_method
 from necflow.optimize.problem.space import load_study_design
 from necflow.optimize.storage.backends import check_storage_url, storage_password
-from necflow.optimize.strategy.study import StudyOptions, parse_duration, run_study
+from necflow.optimize.strategy.study import (
+    StudyOptions,
+    counted_trials,
+    parse_duration,
+    run_study,
+)
 from necflow.report import run_folder
 
 DEFAULT_TRIALS = 100
@@ -120,7 +125,8 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
             _print_split(split, say)
             why = split.stopped
         else:
-            progress = StudyProgress(err, opts.trials, opts.timeout_s, live=err.isatty())
+            progress = StudyProgress(err, opts.trials, opts.timeout_s, live=err.isatty(),
+                                     count=lambda s: len(counted_trials(s)))
             try:
                 study, why = run_study(design, space, opts, solver=solver, on_trial=progress)
             finally:

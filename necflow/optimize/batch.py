@@ -20,7 +20,8 @@ import io
 import itertools
 import json
 import re
-from concurrent.futures import ProcessPoolExecutor
+from collections.abc import Callable
+from concurrent.futures import ProcessPoolExecutor, as_completed
 from multiprocessing import get_context
 from pathlib import Path
 from typing import Any, Literal
@@ -208,9 +209,12 @@ def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
 
 
 def run_batch(path, out: Path | None = None, *, workers: int = 1, storage: str | None = None,
-              solver=None) -> tuple[BatchSpec, list[dict], list[str], Path]:
+              solver=None, on_step: Callable[[int, int | None, str], None] | None = None
+              ) -> tuple[BatchSpec, list[dict], list[str], Path]:
     """Run every unfinished cell; returns the spec, all cell summaries, the
-    ids of the cells skipped because they had finished before, and the folder."""
+    ids of the cells skipped because they had finished before, and the folder.
+    ``on_step(done, total, text)`` (a command's progress) comes before each
+    cell, or with several workers as each cell finishes."""
     spec, todo = load_batch(path)
     safe = re.sub(r"[^A-Za-z0-9_.-]+", "-", spec.name)
     out = Path(out) if out else Path("runs") / f"{safe}-batch"
@@ -220,15 +224,22 @@ def run_batch(path, out: Path | None = None, *, workers: int = 1, storage: str |
             skipped.append(cid)
         else:
             pending.append((cid, over, text))
-    if workers > 1 and len(pending) > 1:
+    step = on_step or (lambda done, total, text: None)
+    n = len(pending)
+    if workers > 1 and n > 1:
         with ProcessPoolExecutor(max_workers=workers, mp_context=get_context("spawn")) as ex:
-            futs = [ex.submit(run_cell, spec, cid, over, text, out / "cells" / cid, storage,
-                              solver) for cid, over, text in pending]
-            for f in futs:
+            futs = {ex.submit(run_cell, spec, cid, over, text, out / "cells" / cid, storage,
+                              solver): cid for cid, over, text in pending}
+            step(0, n, f"{n} cells on {workers} workers")
+            for k, f in enumerate(as_completed(futs), start=1):
                 f.result()
+                if k < n:
+                    step(k, n, f"cell {futs[f]} finished")
     else:
-        for cid, over, text in pending:
+        for k, (cid, over, text) in enumerate(pending):
+            step(k, n, f"cell {cid} ({_describe(over)})")
             run_cell(spec, cid, over, text, out / "cells" / cid, storage, solver)
+    step(0, None, "summary table and plot")
     summaries = [json.loads((out / "cells" / cid / "cell.json").read_text())
                  for cid, _, _ in todo]
     write_summary(spec, summaries, out)
