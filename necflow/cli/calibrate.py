@@ -8,7 +8,7 @@ never print.
 
 from __future__ import annotations
 
-import json
+import dataclasses
 import sys
 from pathlib import Path
 
@@ -106,6 +106,24 @@ def cmd_fit(args) -> int:
                                       title=f"{design.name}: model and measurement"),
                        out / "overlay.png", dpi=110)
     steps.close()
+    files = {"calibrated_design": str(out / "design.calibrated.yaml"),
+             "overlay": str(out / "overlay.png")}
+    if args.json:
+        sys.stdout.write(fileio.json_text({
+            "design": design.name, "sweeps": [str(p) for p in args.measured],
+            "complex_data": result.complex_data, "solves": result.solves,
+            "fields": [{"path": p.path, "unit": p.dimension and units.DIMENSIONS[p.dimension][1],
+                        "before": result.start[p.path], "fitted": result.values[p.path],
+                        "sigma": result.sigma[p.path], "at_range_end": result.at_bound[p.path]}
+                       for p in params],
+            "residual_rms_before": result.rms_before, "residual_rms_after": result.rms_after,
+            "bands": [{"band": b.band, "sweep": b.source,
+                       "measured_f_swr_min_hz": b.measured_f_min_hz,
+                       "model_f_swr_min_hz_before": b.model_f_min_hz,
+                       "model_f_swr_min_hz_after": a.model_f_min_hz,
+                       "shift_before_hz": b.shift_hz} for b, a in zip(before, after)],
+            "notes": result.notes, "files": files}))
+        return OK
     print(f"{design.name}: fitted {len(params)} field(s) to {len(sweeps)} sweep(s) "
           f"({'complex reflection' if result.complex_data else 'SWR magnitude only'}), "
           f"{result.solves} antenna solves")
@@ -157,6 +175,34 @@ def cmd_trim(args) -> int:
     adjust = _checked_ranges(design, args.adjust, "--adjust") if args.adjust else None
     r = trim_design(design, targets, adjust, seed=args.seed, on_step=steps)
     steps.close()
+    if args.write:
+        fileio.write_text(args.write, resolved_yaml(r.design))
+    if args.json:
+        _trim_json(design, r, args.write)
+    else:
+        _trim_text(design, r, args.write)
+    if r.targets and all(t.band.name in r.unreachable for t in r.targets):
+        raise GoalNotMet("no targeted band was reached ("
+                         + ", ".join(t.band.name for t in r.targets) + "); see "
+                         + ("'unreachable' in the output" if args.json else
+                            "'cannot reach' above") + " for why")
+    return OK
+
+
+def _trim_json(design, r, written: str | None) -> None:
+    sys.stdout.write(fileio.json_text({
+        "design": design.name,
+        "targets": [{"band": t.band.name, "frequency_hz": t.frequency_hz, "how": t.how}
+                    for t in r.targets],
+        "before": [dataclasses.asdict(b) for b in r.before],
+        "steps": [{"path": s.path, "old": s.old, "new": s.new, "instruction": s.text,
+                   "bands": [dataclasses.asdict(b) for b in s.bands],
+                   "pushed_out": s.pushed_out} for s in r.steps],
+        "reached_hz": r.reached, "unreachable": r.unreachable, "warnings": r.warnings,
+        "solves": r.solves, "files": {"trimmed_design": written}}))
+
+
+def _trim_text(design, r, written: str | None) -> None:
     print(f"{design.name}: targets " + ", ".join(
         f"{t.band.name} {t.frequency_hz / 1e6:.4g} MHz" + (" (centre)" if t.how == "centre"
                                                            else "") for t in r.targets))
@@ -180,14 +226,8 @@ def cmd_trim(args) -> int:
                   f"{100 * (f / t.frequency_hz - 1):+.2f} % from the target")
     for w in r.warnings:
         print(f"warning: {w}")
-    if args.write:
-        fileio.write_text(args.write, resolved_yaml(r.design))
-        print(f"trimmed design: {args.write}")
-    if r.targets and all(t.band.name in r.unreachable for t in r.targets):
-        raise GoalNotMet("no targeted band was reached ("
-                         + ", ".join(t.band.name for t in r.targets) + "); see 'cannot reach' "
-                         "above for why")
-    return OK
+    if written:
+        print(f"trimmed design: {written}")
 
 
 def cmd_tolerance(args) -> int:
@@ -207,8 +247,10 @@ def cmd_tolerance(args) -> int:
     steps.close()
     rows = r.band_table()
     if args.json:
-        print(json.dumps({"seed": r.seed, "cases": int(r.swr.shape[0]),
-                          "geometry_states": r.states, "bands": rows}, indent=1))
+        sys.stdout.write(fileio.json_text({
+            "design": design.name, "seed": r.seed, "cases": int(r.swr.shape[0]),
+            "geometry_states": r.states, "swr_limit": r.swr_limit, "bands": rows,
+            "files": {"plot": args.plot}}))
     else:
         print(f"{design.name}: {r.swr.shape[0]} cases, seed {r.seed}, {r.states} geometry "
               f"states solved, SWR limit {r.swr_limit:g}")

@@ -5,6 +5,7 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
+from necflow import fileio
 from necflow.cli.progress import steps_of
 from necflow.cli.status import OK
 from necflow.report.decision import write_report
@@ -20,5 +21,8 @@ def cmd_report(args) -> int:
         steps.note(text)          # not a run folder: the error is the only line
     path = write_report(folder)
     steps.close()
-    print(f"report: {path}")
+    if getattr(args, "json", False):
+        sys.stdout.write(fileio.json_text({"run_folder": str(folder), "report": str(path)}))
+    else:
+        print(f"report: {path}")
     return OK

@@ -32,7 +32,7 @@ import yaml
 from matplotlib.figure import Figure
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_validator
 
-from necflow import fileio
+from necflow import fileio, units
 from necflow.chain import load_design_text
 from necflow.config.load import parse_yaml, read_design_text
 from necflow.engine.response import ResponseCache
@@ -255,16 +255,46 @@ def _short(value: Any) -> str:
     return str(value)
 
 
+def _quantity_column(values: list) -> tuple[str | None, list[float]] | None:
+    """Matrix values as numbers: quantities of one dimension in its display
+    unit (``("m", [9.0, 12.0])``), plain numbers without a unit (``(None,
+    [...])``); None when a value is neither (a mapping, a range, a name)."""
+    if all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in values):
+        return None, [float(v) for v in values]
+    if not all(isinstance(v, str) for v in values):
+        return None
+    for dim in units.DIMENSIONS:
+        try:
+            si_values = [units.parse(v, dim) for v in values]
+        except units.UnitError:
+            continue
+        shown = units.display_unit(dim)
+        return shown, [float(units.format_quantity(v, dim, shown, digits=12).split()[0])
+                       for v in si_values]
+    return None
+
+
 def summary_rows(spec: BatchSpec, summaries: list[dict]) -> tuple[list[str], list[list]]:
+    """The summary table: a row per cell, numbers as numbers and every unit
+    in its column's header (``antenna.height [m]``, ``loss_db``); a matrix
+    value that is not a number (a ground mapping, a range) stays text."""
     keys = list(spec.matrix)
     bands = list(summaries[0]["bands"]) if summaries else []
-    head = ["cell", *keys, "cost", "worst_swr", "loss_db"] + [f"{b}.swr_max" for b in bands]
-    rows = []
-    for s in summaries:
-        row = [s["cell"]] + [_short(s["overrides"][k]) for k in keys]
-        row += [f"{s['cost']:.4g}", f"{s['worst_swr']:.3g}", f"{s['loss_db']:.3g}"]
-        row += [f"{s['bands'][b]['swr_max']:.3g}" for b in bands]
-        rows.append(row)
+    head, columns = ["cell"], [[s["cell"] for s in summaries]]
+    for k in keys:
+        values = [s["overrides"][k] for s in summaries]
+        numeric = _quantity_column(values) if values else None
+        if numeric is None:
+            head.append(k)
+            columns.append([_short(v) for v in values])
+        else:
+            unit, numbers = numeric
+            head.append(f"{k} [{unit}]" if unit else k)
+            columns.append(numbers)
+    head += ["cost", "worst_swr", "loss_db"] + [f"{b}.swr_max" for b in bands]
+    columns += [[float(s[t]) for s in summaries] for t in ("cost", "worst_swr", "loss_db")]
+    columns += [[float(s["bands"][b]["swr_max"]) for s in summaries] for b in bands]
+    rows = [list(r) for r in zip(*columns)] if summaries else []
     return head, rows
 
 
