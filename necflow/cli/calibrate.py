@@ -90,13 +90,13 @@ def cmd_fit(args) -> int:
         check_overlap(s, bands)
     section = {**design.uncertain, **_checked_ranges(design, args.vary, "--vary")}
     params = build_params(design, section, key="uncertain", file=args.design)
+    out = _out_folder(Path(args.out) if args.out else Path("runs") / f"{design.name}-fit")
     responder = Responder(design, sweeps)
     result = fit_design(design, sweeps, params, starts=args.starts, seed=args.seed,
                         responder=responder, on_step=steps)
     steps(0, None, "the model before and after against the sweeps")
     before, model = compare(design, sweeps, responder)
     after, calibrated = compare(result.design, sweeps, responder)
-    out = _out_folder(Path(args.out) if args.out else Path("runs") / f"{design.name}-fit")
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
