@@ -227,8 +227,9 @@ def test_compare_study_option_and_its_old_spelling(design, tmp_path, capsys):
 
 
 def test_an_option_name_means_one_thing(capsys):
-    """``--study`` names a study (optimize) and nothing else; ``--out`` is a
-    folder wherever it appears."""
+    """``--study`` names a study (optimize) and nothing else; ``--out`` is
+    where a command's output goes: the folder of a command that writes
+    several files, the file of one that otherwise prints to stdout."""
     from necflow.cli import _parser
 
     parser = _parser()
@@ -240,7 +241,10 @@ def test_an_option_name_means_one_thing(capsys):
                 if a.help != "==SUPPRESS==" and "deprecated" not in (a.help or ""):
                     metavars.setdefault(opt, set()).add((a.metavar, a.dest))
     assert metavars["--study"] == {("NAME", "study")}
-    assert metavars["--out"] == {("DIR", "out")}
+    assert metavars["--out"] <= {("DIR", "out"), ("FILE", "out")}
+    for name in ("evaluate", "optimize", "batch", "fit"):
+        (out,) = [a for a in sub.choices[name]._actions if "--out" in a.option_strings]
+        assert out.metavar == "DIR", name
     assert metavars["--json"] == {(None, "json")}
     for name in ("check", "evaluate", "optimize", "batch", "fit", "trim", "tolerance", "report"):
         assert any("--json" in a.option_strings for a in sub.choices[name]._actions), name
