@@ -295,6 +295,11 @@ _DISPLAY = {
 }
 
 
+def display_unit(dimension: str) -> str:
+    """The unit reports show a dimension in (``"capacitance"`` -> ``"pF"``)."""
+    return _DISPLAY[dimension]
+
+
 def format_quantity(si_value: float, dimension: str, unit: str | None = None,
                     digits: int = 6) -> str:
     """Render an SI float as text with a unit that :func:`parse` reads back.

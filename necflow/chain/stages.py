@@ -276,6 +276,21 @@ class Chain:
                                        for fi in self.frequency_hz])
         return common_mode(self._ideal_system, per_volt, loads)
 
+    def solve(self, on_step: Callable[[int, int | None, str], None] | None = None) -> None:
+        """Solve the antenna response of every band now, one band's model at
+        a time, calling ``on_step(done, total, text)`` before each (a
+        command's progress); :attr:`antenna` then reads memory.  The same
+        lookups :attr:`antenna` makes, so nothing is solved twice."""
+        groups = self._by_model(self.frequency_hz)
+        for k, (m, _, u) in enumerate(groups):
+            if on_step is not None:
+                names = [b.name for b, mb in zip(self.bands, self.models) if mb is m]
+                on_step(k, len(groups), f"solving {', '.join(names)} ({u.size} frequencies)")
+            if self.routed:
+                self.responses.lookup_routed(m, u)
+            else:
+                self.responses.lookup_each([m], [u])
+
     def solve_requests(self) -> list[tuple[WireModel, np.ndarray]]:
         """The (model, distinct frequencies) pairs :attr:`antenna` asks the
         response cache for (see :func:`prefetch`)."""

@@ -8,8 +8,11 @@ checks of its options and its printing:
 
 * :mod:`necflow.cli.evaluate`: ``check``, ``evaluate``
 * :mod:`necflow.cli.report`: ``report``
-* :mod:`necflow.cli.optimize`: ``optimize`` (with :mod:`necflow.cli.progress`,
-  the live progress display)
+* :mod:`necflow.cli.optimize`: ``optimize``
+* :mod:`necflow.cli.progress`: progress on stderr (rich's display on a
+  terminal, plain lines otherwise) for a study and for the steps of the other
+  long commands; the jobs report steps through an ``on_step`` callback and
+  never print
 * :mod:`necflow.cli.batch`: ``batch``
 * :mod:`necflow.cli.calibrate`: ``fit``, ``trim``, ``tolerance``
 * :mod:`necflow.cli.start`: ``new`` (starter designs and examples), ``schema``
@@ -53,6 +56,10 @@ MAX_PROBLEMS = 20
 
 __all__ = ["INTERNAL_ERROR", "INTERRUPTED", "NOT_MET", "OK", "TERMINATED", "main"]
 
+#: Commands that report their steps (:class:`necflow.cli.progress.Steps`);
+#: ``optimize`` follows its study with its own display.
+STEPPED = ("check", "evaluate", "report", "batch", "fit", "trim", "tolerance")
+
 
 def _parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
@@ -85,13 +92,18 @@ def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     old = warnings.showwarning
     warnings.showwarning = _show_warning
+    args.progress = None
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("default", NecflowWarning)
+            if args.command in STEPPED:   # on a terminal, shown while the modules load
+                args.progress = importlib.import_module("necflow.cli.progress").Steps(
+                    args.command, sys.stderr)
             module, name = args.handler.split(":")
             handler = getattr(importlib.import_module(module), name)   # the command's module
             return int(handler(args) or OK)
     except NecflowError as exc:
+        _stop(args)
         if args.debug:
             traceback.print_exc()
         design = getattr(args, "design", None)
@@ -104,13 +116,22 @@ def main(argv: list[str] | None = None) -> int:
             print(f"necflow: error: {line}", file=sys.stderr)
         return exc.exit_code
     except KeyboardInterrupt:
+        _stop(args)
         print("necflow: interrupted", file=sys.stderr)
         return INTERRUPTED
     except Exception as exc:  # a bug, not a user error: still one line by default
+        _stop(args)
         if args.debug:
             traceback.print_exc()
         print(f"necflow: internal error: {type(exc).__name__}: {exc} "
               "(rerun with --debug for the traceback)".replace("\n", " "), file=sys.stderr)
         return INTERNAL_ERROR
     finally:
+        _stop(args)
         warnings.showwarning = old
+
+
+def _stop(args) -> None:
+    """Close the command's progress display, if it has one (idempotent)."""
+    if getattr(args, "progress", None) is not None:
+        args.progress.close()

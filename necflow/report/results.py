@@ -149,7 +149,7 @@ def csv_text(doc: dict[str, Any]) -> str:
             "x_radio_ohm", "swr", "return_loss_db", "delivered_fraction"]
     head += [f"loss_{k}_db" for k in loss_keys]
     for eid in stress_ids:
-        head += [f"{eid}_v_peak", f"{eid}_i_rms", f"{eid}_p_diss_w"]
+        head += [f"{eid}_v_peak_v", f"{eid}_i_rms_a", f"{eid}_p_diss_w"]
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(head)
