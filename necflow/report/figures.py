@@ -172,3 +172,65 @@ def across_figure(band: str, records: list[dict], labels: list[str]):
     ax.grid(alpha=0.3)
     ax.legend(fontsize=6, loc="best")
     return fig
+
+
+#: How each kind of wire is drawn in the picture of the wires.
+_WIRE_STYLE = {"antenna": {"color": "tab:blue", "lw": 2.2, "label": "antenna wire"},
+               "line": {"color": "tab:orange", "lw": 1.4, "ls": "--",
+                        "label": "feed line (its outside, as routed)"},
+               "choke": {"color": "tab:purple", "label": "choke"},
+               "entry": {"color": "tab:green", "lw": 2.0, "label": "station entry to ground"}}
+#: The three views: (title, horizontal axis, vertical axis) as indices of x, y, z.
+_VIEWS = (("top", 0, 1), ("front", 0, 2), ("side", 1, 2))
+_AXIS = ("x [m]", "y [m]", "z (height) [m]")
+
+
+def wires_figure(wires: dict):
+    """The model's wires in three views (top, front, side) with equal scales
+    in metres, the feed point marked, the feed line's route drawn when it is
+    modelled and the ground (z = 0) when there is one."""
+    runs = wires["runs"]
+    pts = np.array([r[k] for r in runs for k in ("start", "end")] + [wires["feed_point"]],
+                   dtype=float)
+    if wires["ground"]:
+        pts = np.vstack([pts, [pts[0, 0], pts[0, 1], 0.0]])
+    lo, hi = pts.min(axis=0), pts.max(axis=0)
+    # each axis spans at least a third of the largest extent (a flat antenna
+    # keeps a readable panel), plus a margin
+    big = max(float(np.max(hi - lo)), 1.0)
+    half = np.maximum(hi - lo, big / 3.0) / 2.0 + 0.06 * big
+    lo, hi = (lo + hi) / 2.0 - half, (lo + hi) / 2.0 + half
+    spans = [(hi[h] - lo[h], hi[v] - lo[v]) for _, h, v in _VIEWS]
+    fig = Figure(figsize=(12.0, 3.6), layout="constrained")
+    axes = fig.subplots(1, 3, width_ratios=[w / max(hgt, 1e-9) for w, hgt in spans])
+    fp = np.asarray(wires["feed_point"], dtype=float)
+    for ax, (title, h, v) in zip(axes, _VIEWS):
+        seen = set()
+        for r in runs:
+            st = dict(_WIRE_STYLE.get(r["kind"], _WIRE_STYLE["antenna"]))
+            lab = st.pop("label")
+            if r["kind"] == "choke":      # centimetres long: a mark where it sits
+                mid = (np.asarray(r["start"]) + np.asarray(r["end"])) / 2.0
+                ax.plot(mid[h], mid[v], marker="s", ms=7, ls="none", color=st["color"],
+                        label=None if lab in seen else lab)
+            else:
+                ax.plot([r["start"][h], r["end"][h]], [r["start"][v], r["end"][v]],
+                        solid_capstyle="butt", label=None if lab in seen else lab, **st)
+            seen.add(lab)
+        ax.plot(fp[h], fp[v], marker="o", ms=8, mfc="none", mec="tab:red", mew=2, ls="none",
+                label="feed point")
+        if wires["ground"] and v == 2:
+            ax.axhline(0.0, color="saddlebrown", lw=1.2, label="ground (z = 0)")
+        ax.set_xlim(lo[h], hi[h])
+        ax.set_ylim(lo[v], hi[v])
+        ax.set_aspect("equal", adjustable="box")
+        ax.set_title(title, fontsize=9)
+        ax.set_xlabel(_AXIS[h], fontsize=8)
+        ax.set_ylabel(_AXIS[v], fontsize=8)
+        ax.tick_params(labelsize=7)
+        ax.grid(alpha=0.3)
+    handles, labels = axes[1].get_legend_handles_labels()
+    fig.legend(handles, labels, loc="outside lower center", ncol=len(labels), fontsize=8)
+    fig.suptitle("The wires as modelled: top, front and side views (equal scales, metres)",
+                 fontsize=10)
+    return fig

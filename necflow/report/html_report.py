@@ -158,6 +158,23 @@ def _decision(report: dict) -> str:
             "feeding is described under Alternatives.</p>")
 
 
+def _wires(report: dict) -> str:
+    """The model's wires in three views: is this the antenna as built?"""
+    w = report.get("wires")
+    if not w or not w["runs"]:
+        return ""
+    fp = w["feed_point"]
+    line = any(r["kind"] == "line" for r in w["runs"])
+    return ("<h2>The antenna as modelled</h2>"
+            + _img(figures.wires_figure(w), "the wires in three views: top, front and side")
+            + f'<p class="muted">Compare with the antenna you built or mean to build: the '
+            f"model's wires (x along the span, y across it, z up; metres, equal scales), the "
+            f"feed point (circle) at x {fp[0]:.2f}, y {fp[1]:.2f}, z {fp[2]:.2f} m"
+            + ("; the feed line's outside along its route, as modelled" if line else
+               "; the feed line is not part of the model (no route given)")
+            + ".</p>")
+
+
 def _summary(report: dict) -> str:
     """Per band: which way of feeding wins, and by how many dB over the
     next best (the decision matrix in words)."""
@@ -465,6 +482,7 @@ SWR limit {report['swr_limit']:g}; ground: {_e(report['ground'])}.</p>
 <div class="caution"><b>Cautions</b><ul>{cautions}{found}</ul>
 Follow local codes, your licence conditions and licensed practice.</div>
 <h2>Summary</h2>{_summary(report)}
+{_wires(report)}
 <h2>Bands</h2>{_band_table(results, report)}{_efficiency_note(report)}
 <p class="muted">Gains are power gains at each band's centre (wire and ground loss included);
 peak gain in the plane of the strongest lobe; gain at an elevation is the best over all

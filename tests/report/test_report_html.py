@@ -188,6 +188,33 @@ def test_first_screen_shows_the_decision_matrix(run, tmp_path, capsys):
         print(f"\nfirst screen of the demo's report (1280 x 900): {kept}")
 
 
+def test_picture_of_the_wires_is_the_demo_as_designed(run):
+    """The three views are drawn from report_data.json's wires: the demo's
+    doublet (span 30 m at 12 m, demo.yaml), fed at its centre, its feed line
+    along the route's points ([0, 0, 2] m, then [12, 16, 1] m) with the balun's
+    choke at the first and the entry to ground at the last."""
+    data = json.loads((run / "report_data.json").read_text())
+    w = data["wires"]
+    ant = [r for r in w["runs"] if r["kind"] == "antenna"]
+    assert len(ant) == 1            # the graded pieces of one straight wire, joined
+    assert sorted([ant[0]["start"], ant[0]["end"]]) == [pytest.approx([-15.0, 0.0, 12.0]),
+                                                        pytest.approx([15.0, 0.0, 12.0])]
+    # the centre of the source segment, within a segment of the centre
+    assert np.linalg.norm(np.subtract(w["feed_point"], [0.0, 0.0, 12.0])) < 0.05
+    line = [r for r in w["runs"] if r["kind"] == "line"]
+    assert line[0]["start"] == pytest.approx([0.0, 0.0, 12.0])
+    assert line[-1]["end"] == pytest.approx([12.0, 16.0, 1.0])
+    (choke,) = [r for r in w["runs"] if r["kind"] == "choke"]
+    assert choke["name"] == "choke balun" and choke["end"][2] == pytest.approx(2.0, abs=0.05)
+    entry = [r for r in w["runs"] if r["kind"] == "entry"]
+    assert entry and entry[-1]["end"][2] == pytest.approx(0.0, abs=1e-9)
+    assert w["ground"] is True
+    html = (run / "report.html").read_text(encoding="utf-8")
+    assert 'alt="the wires in three views: top, front and side"' in html
+    x, y, z = w["feed_point"]
+    assert f"feed point (circle) at x {x:.2f}, y {y:.2f}, z {z:.2f} m" in html
+
+
 def test_report_is_self_contained_escaped_and_small(run):
     html = (run / "report.html").read_text(encoding="utf-8")
     assert len(html.encode()) < 5 * 1024 * 1024
