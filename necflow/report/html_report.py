@@ -499,7 +499,11 @@ gives its settings at the band's centre.</p>
 {_switching(results)}
 <h2>SWR</h2>{_img(figures.swr_figure(results, report), "SWR at the radio per band")}
 <h2>Impedance</h2>{_img(figures.smith_figure(results), "Smith charts")}
-<h2>Loss budget</h2>{_img(figures.loss_figure(report), "stacked loss per alternative")}
+<p class="muted">The feedpoint chart is normalised to {figures.feedpoint_reference(results):.0f}
+ohm, the geometric mean of the feedpoint impedance's magnitude over all evaluated points, so
+that loads from tens of ohms to kilohms spread over the chart; the radio's chart to the radio's
+impedance.</p>
+<h2>Loss budget</h2>{_img(figures.loss_figure(report), "stacked loss per way of feeding")}
 <h2>Patterns</h2>{_img(figures.pattern_figure(report), "elevation and azimuth patterns")}
 {_common_mode(report)}
 <h2>Component stress</h2>{_stress(report)}
