@@ -17,15 +17,14 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass
 
-import matplotlib
 import numpy as np
-from matplotlib.figure import Figure
 
 from necflow.calibrate.response import Responder
 from necflow.chain.cases import evaluate_cases
 from necflow.config.schema import Design
 from necflow.config.tolerances import parse_tolerances, scenarios
 from necflow.errors import ConfigError
+from necflow.report import plots
 
 
 @dataclass(frozen=True)
@@ -104,31 +103,5 @@ def monte_carlo(design: Design, *, samples: int | None = None, seed: int | None 
 
 
 def tolerance_figure(result: ToleranceResult, title: str = ""):
-    """SWR spread per band (5-95 % of cases shaded, median, nominal, limit)."""
-    matplotlib.use("Agg", force=False)
-
-    n = len(result.bands)
-    cols = min(n, 3)
-    rows = int(np.ceil(n / cols))
-    fig = Figure(figsize=(4.2 * cols, 3.0 * rows), layout="constrained")
-    top = 3.0 * result.swr_limit
-    for i, b in enumerate(result.bands):
-        ax = fig.add_subplot(rows, cols, i + 1)
-        sel = result.band_index == i
-        fm = result.frequency_hz[sel] / 1e6
-        s = np.minimum(result.swr[:, sel], top)
-        ax.fill_between(fm, np.percentile(s, 5, axis=0), np.percentile(s, 95, axis=0),
-                        alpha=0.3, label="5-95 % of cases")
-        ax.plot(fm, np.median(s, axis=0), lw=1.5, label="median")
-        ax.plot(fm, np.minimum(result.nominal_swr[sel], top), "k--", lw=1, label="nominal")
-        ax.axhline(result.swr_limit, color="tab:red", lw=1)
-        ax.set_ylim(1.0, top)
-        ax.set_title(f"{b.name}", fontsize=10)
-        ax.set_xlabel("frequency [MHz]")
-        ax.set_ylabel("SWR at the radio")
-        ax.grid(alpha=0.3)
-        if i == 0:
-            ax.legend(fontsize=7)
-    fig.suptitle(title or f"tolerance: {result.swr.shape[0]} cases, seed {result.seed}",
-                 fontsize=11)
-    return fig
+    """SWR spread per band (:func:`necflow.report.plots.tolerance_figure`)."""
+    return plots.tolerance_figure(result, title)

@@ -263,8 +263,35 @@ def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
         "exposure": exposure, "exposure_basis": exposure_basis(over_ground),
         "efficiency_convention": EFFICIENCY_CONVENTION,
         "common_mode": _common_mode_record(evaluation, ff, far_field_fn, on_step),
+        "wires": wire_record(evaluation.model),
     }
     return fileio.json_ready(doc)
+
+
+def _wire_kind(name: str) -> str:
+    return ("line" if name == "line" else "choke" if name.startswith(_ROUTE_WIRES[1])
+            else "entry" if name.startswith(_ROUTE_WIRES[2]) else "antenna")
+
+
+def wire_record(model) -> dict:
+    """The wires of a model for the report's picture [m]: straight runs (the
+    consecutive collinear pieces of one kind and name joined), each of kind
+    'antenna', 'line', 'choke' or 'entry' (a route's wires), the feed point
+    and whether there is a ground (at z = 0)."""
+    runs: list[dict] = []
+    for w in model.wires:
+        kind, name = _wire_kind(w.name), w.name.split(" (")[0]
+        u = (w.end - w.start) / w.length
+        if runs:
+            last = runs[-1]
+            v = (last["end"] - last["start"]) / np.linalg.norm(last["end"] - last["start"])
+            if (last["kind"] == kind and last["name"] == name
+                    and np.allclose(last["end"], w.start, rtol=0.0, atol=1e-6)
+                    and np.linalg.norm(np.cross(u, v)) < 1e-6 and u @ v > 0):
+                last["end"] = w.end
+                continue
+        runs.append({"kind": kind, "name": name, "start": w.start, "end": w.end})
+    return {"runs": runs, "feed_point": model.feed_point(), "ground": model.ground.has_ground}
 
 
 def _common_mode_record(evaluation, ff: list[dict], far_field_fn, on_step=None) -> dict | None:

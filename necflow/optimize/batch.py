@@ -26,10 +26,8 @@ from multiprocessing import get_context
 from pathlib import Path
 from typing import Any, Literal
 
-import matplotlib
 import optuna
 import yaml
-from matplotlib.figure import Figure
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_validator
 
 from necflow import fileio, units
@@ -42,6 +40,7 @@ from necflow.optimize.problem.cost import score_design
 from necflow.optimize.problem.space import build_space
 from necflow.optimize.storage.backends import describe
 from necflow.optimize.strategy.study import StudyOptions, run_study
+from necflow.report import plots
 
 #: Most cells in one batch (each is an evaluation or a whole study).
 MAX_CELLS = 10_000
@@ -306,15 +305,8 @@ def write_summary(spec: BatchSpec, summaries: list[dict], out: Path) -> None:
     w.writerow(head)
     w.writerows(rows)
     fileio.write_text(out / "summary.csv", buf.getvalue())
-    matplotlib.use("Agg", force=False)
-
-    fig = Figure(figsize=(max(5.0, 0.6 * len(summaries) + 2), 5.0), layout="constrained")
-    ax1, ax2 = fig.subplots(2, 1, sharex=True)
-    names = [s["cell"][:3] for s in summaries]
-    ax1.bar(names, [s["cost"] for s in summaries], color="tab:blue")
-    ax1.set_ylabel("cost")
-    ax2.bar(names, [s["worst_swr"] for s in summaries], color="tab:orange")
-    ax2.set_ylabel("worst SWR")
-    ax2.set_xlabel("cell (see summary.csv)")
-    fig.suptitle(f"batch {spec.name}: {spec.mode}")
+    labels = ["\n".join(f"{k.rsplit('.', 1)[-1]} {_short(s['overrides'][k])}"
+                        for k in spec.matrix) for s in summaries]
+    fig = plots.batch_figure(f"batch {spec.name}: {spec.mode}", labels,
+                             [s["cost"] for s in summaries], [s["worst_swr"] for s in summaries])
     fileio.save_figure(fig, out / "summary.png", dpi=100)

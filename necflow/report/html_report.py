@@ -17,6 +17,7 @@ from pathlib import Path
 from necflow import fileio
 from necflow.errors import ConfigError
 from necflow.report import figures
+from necflow.report.matrix import TIE_DB, decision_rows
 from necflow.report.report_data import read_report_data
 
 FILE_NAME = "report.html"
@@ -27,13 +28,18 @@ FILE_NAME = "report.html"
 _LOSS_COLUMN = {"series": "part", "shunt": "part", "choke": "transformer", "tuner": "matching"}
 
 CSS = """
-body{font-family:sans-serif;font-size:10.5pt;margin:1.5em auto;max-width:70em;color:#111}
+body{font-family:sans-serif;font-size:10.5pt;margin:1.5em auto;max-width:78em;color:#111}
 h1{font-size:17pt;margin-bottom:.2em} h2{font-size:13pt;border-bottom:1px solid #888;
 margin-top:1.6em} h3{font-size:11pt}
 table{border-collapse:collapse;margin:.5em 0;font-size:9pt} td,th{border:1px solid #bbb;
 padding:2px 6px;text-align:right} th{background:#eee} td.l,th.l{text-align:left}
 .caution{border:2px solid #b00;padding:.4em 1em;background:#fff4f4}
-.bad{color:#b00;font-weight:bold} .muted{color:#555;font-size:9pt}
+.bad{color:#b00;font-weight:bold}
+table.decision{font-size:10pt;width:100%} table.decision td{vertical-align:top;white-space:nowrap}
+table.decision td.margin{white-space:normal;min-width:15em} td.margin b{white-space:nowrap}
+table.decision td.best{background:#e2f4e2;font-weight:bold}
+.sub{font-size:8.5pt;color:#444;white-space:nowrap} table.decision td.best .sub{color:#063}
+h2.first{margin-top:.6em} .key{margin-top:0} .muted{color:#555;font-size:9pt}
 img{max-width:100%;height:auto;display:block;margin:.5em 0}
 @media print{body{max-width:none;margin:0;font-size:9pt} h2{break-after:avoid}
 table,img,.across{break-inside:avoid} .noprint{display:none}}
@@ -94,36 +100,98 @@ def _table(head: list[str], rows: list[list[str]], left: int = 1, cls: str = "")
     return f"<table{attr}><tr>{h}</tr>{body}</table>"
 
 
-def _score(d: dict, n_labels: int) -> tuple[float, str]:
-    """What ranks the alternatives on a band: the mean system gain over the
-    elevations of interest [dBi], else minus the total loss [dB]."""
-    if d.get("system_gain_dbi") is not None:
-        return sum(d["system_gain_dbi"]) / n_labels, "system gain"
-    total = d["loss_db"]["total"]
-    return (-total if total is not None else float("-inf")), "total loss"
+def _decision(report: dict) -> str:
+    """The first screen: bands x ways of feeding, each scored in dB, the best
+    marked and its margin over the next best (:mod:`necflow.report.matrix`)."""
+    rows = decision_rows(report)
+    if not rows:
+        return ""
+    names = [c.name for c in rows[0].cells]
+    limit = report["swr_limit"]
+    head = ('<tr><th class="l">band</th>' + "".join(f"<th>{_e(n)}</th>" for n in names)
+            + '<th class="l">best, and its margin over the next</th></tr>')
+    body = []
+    for r in rows:
+        cells = []
+        for c in r.cells:
+            if c.value is None:
+                cells.append('<td class="none">no result</td>')
+                continue
+            notes = []
+            if not c.best:
+                notes.append(f"-{_num(c.behind_db, '.1f')} dB")
+            elif c is not r.cells[r.best]:
+                notes.append("a tie")
+            elif r.margin_db is not None:
+                notes.append(f"+{_num(r.margin_db, '.1f')} dB")
+            if c.cannot_match:
+                notes.append('<span class="bad">cannot match</span>')
+            elif c.over_limit:
+                notes.append(f'<span class="bad">SWR {_num(c.swr_max, ".1f")}</span>')
+            mark = "&#9733; " if c.best else ""
+            cls = ' class="best"' if c.best else ""
+            cells.append(f'<td{cls} data-value="{c.value!r}">{mark}{_num(c.value, ".1f")} '
+                         f'{r.unit}<br><span class="sub">{" &middot; ".join(notes)}</span></td>')
+        best = r.cells[r.best]
+        if r.runner_up is None:
+            margin = f"<b>{_e(best.name)}</b>"
+        else:
+            tie = " (a tie)" if r.margin_db < TIE_DB else ""
+            margin = (f"<b>{_e(best.name)}</b>, <b>{_num(r.margin_db, '.1f')} dB</b>{tie} "
+                      f"over {_e(r.cells[r.runner_up].name)}")
+        mdb = "" if r.margin_db is None else f' data-margin-db="{r.margin_db!r}"'
+        basis = "" if r.basis == "system gain" else '<br><span class="sub">total loss</span>'
+        body.append(f'<tr data-band="{_e(r.band)}"><th class="l">{_e(r.band)}{basis}</th>'
+                    + "".join(cells) + f'<td class="l margin"{mdb}>{margin}</td></tr>')
+    labels = ", ".join(f"{_e(e['label'])} {e['elevation_deg']:.0f} deg"
+                       for e in report["elevations"])
+    loss_rows = any(r.basis != "system gain" for r in rows)
+    return (f'<table class="decision" id="decision-matrix">{head}{"".join(body)}</table>'
+            f'<p class="muted key">Each cell: system gain at the band\'s centre, the mean over '
+            f"the elevations of interest ({labels}), in dBi: the antenna's gain less the feed "
+            "system's total loss from the radio's available power to the feedpoint. "
+            + ("Rows marked 'total loss' compare the feed systems' total loss in dB (lower "
+               "is better) where a way of feeding has no far field. " if loss_rows else "")
+            + f"&#9733; best on the band; under it, its margin over the next best, under the "
+            f"others how far they fall behind. In red: the SWR at the radio exceeds the "
+            f"limit {limit:g} somewhere in the band, or a tuner cannot match. Each way of "
+            "feeding is described under Alternatives.</p>")
 
 
-def _summary(results: dict, report: dict) -> str:
+def _wires(report: dict) -> str:
+    """The model's wires in three views: is this the antenna as built?"""
+    w = report.get("wires")
+    if not w or not w["runs"]:
+        return ""
+    fp = w["feed_point"]
+    line = any(r["kind"] == "line" for r in w["runs"])
+    return ("<h2>The antenna as modelled</h2>"
+            + _img(figures.wires_figure(w), "the wires in three views: top, front and side")
+            + f'<p class="muted">Compare with the antenna you built or mean to build: the '
+            f"model's wires (x along the span, y across it, z up; metres, equal scales), the "
+            f"feed point (circle) at x {fp[0]:.2f}, y {fp[1]:.2f}, z {fp[2]:.2f} m"
+            + ("; the feed line's outside along its route, as modelled" if line else
+               "; the feed line is not part of the model (no route given)")
+            + ".</p>")
+
+
+def _summary(report: dict) -> str:
     """Per band: which way of feeding wins, and by how many dB over the
-    next best."""
+    next best (the decision matrix in words)."""
     labels = [e["label"] for e in report["elevations"]]
     out = []
-    for i, b in enumerate(results["bands"]):
-        scored = sorted(((_score(a["bands"][i], len(labels)), a, a["bands"][i])
-                         for a in report["alternatives"]), key=lambda t: -t[0][0])
-        if not scored:
-            continue
-        (top, basis), best, d = scored[0]
+    for i, r in enumerate(decision_rows(report)):
+        best = r.cells[r.best]
+        d = report["alternatives"][r.best]["bands"][i]
         margin = ""
-        if len(scored) > 1:
-            (second, _), runner, _ = scored[1]
-            margin = (f", {_num(top - second, '.1f')} dB ahead of {_e(runner['name'])}"
-                      if second > float("-inf") else "")
+        if r.runner_up is not None:
+            margin = (f", {_num(r.margin_db, '.1f')} dB ahead of "
+                      f"{_e(r.cells[r.runner_up].name)}")
         gains = (", ".join(f"{_num(g, '.1f')} dBi {_e(lab)}"
                            for g, lab in zip(d["system_gain_dbi"], labels))
                  if d.get("system_gain_dbi") is not None
                  else f"total loss {_num(d['loss_db']['total'])} dB")
-        out.append(f"<li><b>{_e(b['band'])}</b>: <b>{_e(best['name'])}</b> wins on {basis}"
+        out.append(f"<li><b>{_e(r.band)}</b>: <b>{_e(best.name)}</b> wins on {r.basis}"
                    f"{margin} ({gains}; SWR at the radio {_num(d['swr_centre'])} at the band's "
                    f"centre, {_num(d['delivered_w'], '.0f')} W of {report['radio_power_w']:g} W "
                    "reach the antenna)</li>")
@@ -410,9 +478,11 @@ def render_html(results: dict, report: dict, manifest: dict) -> str:
 <h1>{name}</h1>
 <p class="muted">{report['radio_power_w']:g} W from a {report['z_ref_ohm']:g} ohm radio;
 SWR limit {report['swr_limit']:g}; ground: {_e(report['ground'])}.</p>
+<h2 class="first">Which way of feeding, band by band</h2>{_decision(report)}
 <div class="caution"><b>Cautions</b><ul>{cautions}{found}</ul>
 Follow local codes, your licence conditions and licensed practice.</div>
-<h2>Summary</h2>{_summary(results, report)}
+<h2>Summary</h2>{_summary(report)}
+{_wires(report)}
 <h2>Bands</h2>{_band_table(results, report)}{_efficiency_note(report)}
 <p class="muted">Gains are power gains at each band's centre (wire and ground loss included);
 peak gain in the plane of the strongest lobe; gain at an elevation is the best over all
@@ -429,7 +499,11 @@ gives its settings at the band's centre.</p>
 {_switching(results)}
 <h2>SWR</h2>{_img(figures.swr_figure(results, report), "SWR at the radio per band")}
 <h2>Impedance</h2>{_img(figures.smith_figure(results), "Smith charts")}
-<h2>Loss budget</h2>{_img(figures.loss_figure(report), "stacked loss per alternative")}
+<p class="muted">The feedpoint chart is normalised to {figures.feedpoint_reference(results):.0f}
+ohm, the geometric mean of the feedpoint impedance's magnitude over all evaluated points, so
+that loads from tens of ohms to kilohms spread over the chart; the radio's chart to the radio's
+impedance.</p>
+<h2>Loss budget</h2>{_img(figures.loss_figure(report), "stacked loss per way of feeding")}
 <h2>Patterns</h2>{_img(figures.pattern_figure(report), "elevation and azimuth patterns")}
 {_common_mode(report)}
 <h2>Component stress</h2>{_stress(report)}

@@ -115,8 +115,9 @@ def test_across_band_entries_table_and_system_gain(demo, tmp_path):
                                     agt_fn=lambda m, f: np.full(len(f), 2.0))
     assert len(doc["far_field"]) == 3 * len(ev.bands)
     check_across(res, doc, html, ev.bands)
-    # One plot per band besides the report's four.
-    assert html.count("<img") == 4 + len(ev.bands)
+    # One plot per band besides the report's five (the wires, SWR, Smith
+    # charts, loss budget, patterns).
+    assert html.count("<img") == 5 + len(ev.bands)
     # The loss does change across a band, so the rows are not copies.
     losses = [r["total_loss_db"] for r in doc["far_field"]]
     assert np.ptp(losses) > 0.01
@@ -129,7 +130,7 @@ def test_centre_keeps_one_entry_per_band_and_no_across_section(demo, tmp_path):
     assert [r["band"] for r in doc["far_field"]] == [b.name for b in ev.bands]
     assert all(r["centre"] for r in doc["far_field"])
     assert "Across the bands" not in html and 'class="across"' not in html
-    assert html.count("<img") == 4
+    assert html.count("<img") == 5       # the wires, SWR, Smith, loss, patterns
 
 
 @pytest.mark.engine

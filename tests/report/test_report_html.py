@@ -9,7 +9,9 @@ import math
 import os
 import re
 import shutil
+import struct
 import subprocess
+from html import unescape
 
 import numpy as np
 import pytest
@@ -92,6 +94,125 @@ def test_report_renders_in_headless_chromium(run, tmp_path):
     subprocess.run([exe, *flags, "--window-size=1200,4000", f"--screenshot={shot}",
                     (run / "report.html").as_uri()], capture_output=True, timeout=120)
     assert shot.stat().st_size > 10_000
+
+
+FIRST_SCREEN_SCRIPT = """<script>
+window.addEventListener('load', function () {
+  var t = document.getElementById('decision-matrix');
+  var out = {vw: window.innerWidth, scroll: window.scrollY, found: !!t};
+  if (t) {
+    var r = t.getBoundingClientRect();
+    out.top = r.top; out.bottom = r.bottom; out.left = r.left; out.right = r.right;
+    out.head = [].slice.call(t.rows[0].cells).map(function (c) { return c.textContent; });
+    out.rows = [].slice.call(t.querySelectorAll('tr[data-band]')).map(function (tr) {
+      return {band: tr.getAttribute('data-band'),
+              cells: [].slice.call(tr.cells).map(function (c) {
+                return {text: c.textContent, best: c.classList.contains('best')}; })};
+    });
+  }
+  var pre = document.createElement('pre');
+  pre.id = 'first-check';
+  pre.textContent = JSON.stringify(out);
+  document.body.appendChild(pre);
+});
+</script></body>"""
+
+
+def _expected_decision(data: dict) -> list[tuple[str, int, float, list[float]]]:
+    """Per band, independently of necflow.report: the index of the best way
+    of feeding, its margin over the next [dB] and each way's value.  The
+    score is the mean system gain over the elevations of interest [dBi]
+    (antenna gain less total feed loss) when every way has one, else minus
+    the total loss [dB]."""
+    out = []
+    alts = data["alternatives"]
+    for i, b in enumerate(alts[0]["bands"]):
+        gains = [a["bands"][i]["system_gain_dbi"] for a in alts]
+        if all(g is not None for g in gains):
+            values = [float(np.mean(g)) for g in gains]
+            scores = values
+        else:
+            values = [a["bands"][i]["loss_db"]["total"] for a in alts]
+            scores = [-v for v in values]
+        order = np.argsort(scores)[::-1]
+        out.append((b["band"], int(order[0]), scores[order[0]] - scores[order[1]], values))
+    return out
+
+
+def test_first_screen_shows_the_decision_matrix(run, tmp_path, capsys):
+    """Acceptance: the report's first screen (1280 x 900 in headless Chromium)
+    holds the whole decision matrix, each band's best marked and its margin
+    over the next in dB; the screenshot is kept as a test artifact."""
+    exe = chromium()
+    data = json.loads((run / "report_data.json").read_text())
+    html = (run / "report.html").read_text(encoding="utf-8")
+    page = tmp_path / "first.html"
+    page.write_text(html.replace("</body>", FIRST_SCREEN_SCRIPT, 1), encoding="utf-8")
+    flags = CHROMIUM_FLAGS + [f"--user-data-dir={tmp_path / 'profile'}", "--window-size=1280,900"]
+    res = subprocess.run([exe, *flags, "--virtual-time-budget=10000", "--dump-dom",
+                          page.as_uri()], capture_output=True, text=True, timeout=120)
+    m = re.search(r'<pre id="first-check">(.*?)</pre>', res.stdout, re.S)
+    assert m, "the check script did not run: " + res.stderr[-2000:]
+    dom = json.loads(unescape(m.group(1)))
+    # Positions are the page's own (not scrolled): the layout depends on the
+    # width alone, and --dump-dom leaves the window's height to the browser
+    # (the screenshot below has the full 900 px).
+    assert dom["vw"] == 1280 and dom["found"] and dom["scroll"] == 0
+    assert 0 <= dom["top"] and dom["bottom"] <= 900 and dom["right"] <= 1280
+    names = [a["name"] for a in data["alternatives"]]
+    assert dom["head"][1:-1] == names
+    expected = _expected_decision(data)
+    assert [r["band"] for r in dom["rows"]] == [e[0] for e in expected] == ["80m", "40m", "20m",
+                                                                          "17m", "10m"]
+    for row, (band, best, margin, values) in zip(dom["rows"], expected):
+        cells = row["cells"][1:-1]
+        assert cells[best]["best"], band
+        for c, v in zip(cells, values):
+            assert f"{v:.1f} dB" in c["text"], (band, c["text"], v)
+        margin_text = row["cells"][-1]["text"]
+        assert margin_text.startswith(names[best]), margin_text
+        assert f"{margin:.1f} dB" in margin_text, (band, margin_text, margin)
+        assert f"+{margin:.1f} dB" in cells[best]["text"]
+    # The screenshot, kept for people to look at (test-artifacts/ is ignored).
+    shot = tmp_path / "first-screen.png"
+    subprocess.run([exe, *flags, f"--screenshot={shot}", (run / "report.html").as_uri()],
+                   capture_output=True, timeout=120)
+    png = shot.read_bytes()
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+    assert struct.unpack(">II", png[16:24]) == (1280, 900)   # IHDR: width, height
+    art = ROOT / "test-artifacts"
+    art.mkdir(exist_ok=True)
+    kept = art / "report-first-screen.png"
+    shutil.copyfile(shot, kept)
+    with capsys.disabled():
+        print(f"\nfirst screen of the demo's report (1280 x 900): {kept}")
+
+
+def test_picture_of_the_wires_is_the_demo_as_designed(run):
+    """The three views are drawn from report_data.json's wires: the demo's
+    doublet (span 30 m at 12 m, demo.yaml), fed at its centre, its feed line
+    along the route's points ([0, 0, 2] m, then [12, 16, 1] m) with the balun's
+    choke at the first and the entry to ground at the last."""
+    data = json.loads((run / "report_data.json").read_text())
+    w = data["wires"]
+    ant = [r for r in w["runs"] if r["kind"] == "antenna"]
+    assert len(ant) == 1            # the graded pieces of one straight wire, joined
+    assert sorted([ant[0]["start"], ant[0]["end"]]) == [pytest.approx([-15.0, 0.0, 12.0]),
+                                                        pytest.approx([15.0, 0.0, 12.0])]
+    # the centre of the source segment, within a segment of the centre
+    assert np.linalg.norm(np.subtract(w["feed_point"], [0.0, 0.0, 12.0])) < 0.05
+    line = [r for r in w["runs"] if r["kind"] == "line"]
+    assert line[0]["start"] == pytest.approx([0.0, 0.0, 12.0])
+    assert line[-1]["end"] == pytest.approx([12.0, 16.0, 1.0])
+    (choke,) = [r for r in w["runs"] if r["kind"] == "choke"]
+    assert choke["name"] == "choke balun" and choke["end"][2] == pytest.approx(2.0, abs=0.05)
+    entry = [r for r in w["runs"] if r["kind"] == "entry"]
+    assert entry and entry[-1]["end"][2] == pytest.approx(0.0, abs=1e-9)
+    assert w["ground"] is True
+    html = (run / "report.html").read_text(encoding="utf-8")
+    assert 'alt="the wires in three views: top, front and side"' in html
+    x, y, z = w["feed_point"]
+    assert f"feed point (circle) at x {x:.2f}, y {y:.2f}, z {z:.2f} m" in html
 
 
 def test_report_is_self_contained_escaped_and_small(run):
