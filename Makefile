@@ -16,10 +16,14 @@ $(STAMP): pyproject.toml
 
 demo: $(STAMP)
 	$(VENV)/bin/necflow evaluate configs/demo.yaml
-	@# A short, seeded study of the demo doublet (about half a minute on 2 cores);
-	@# it prints the per-band table before and after. A fresh folder each time.
+	@# The same doublet through the builder's own shack tuner, with a relay-switched
+	@# variant that opens 30 m: its report compares the ways of feeding it per band.
+	$(VENV)/bin/necflow evaluate configs/demo-tuner.yaml
+	@# A short, seeded study of the demo doublet (a few minutes on 2 cores: with its
+	@# route every trial solves the line's outside with the antenna); it prints the
+	@# per-band table before and after. A fresh folder each time.
 	rm -rf runs/demo-study
-	$(VENV)/bin/necflow optimize configs/demo.yaml --trials 150 --seed 1 --workers 2 \
+	$(VENV)/bin/necflow optimize configs/demo.yaml --trials 40 --seed 1 --workers 2 \
 		--out runs/demo-study
 
 test: $(STAMP)

@@ -28,19 +28,41 @@ class ConfigError(NecflowError):
         1-based line in that file.
     field : str, optional
         Dotted path of the field, e.g. ``antenna.span`` or ``feed[2].value``.
+    others : tuple of ConfigError, optional
+        The other problems found in the same file: validation reports them
+        all at once.  ``str()`` stays one line (the first problem and their
+        count); :meth:`lines` gives each on its own line.
     """
 
     exit_code = 2
 
     def __init__(self, message: str, *, file: str | None = None,
-                 line: int | None = None, field: str | None = None):
+                 line: int | None = None, field: str | None = None,
+                 others: tuple[ConfigError, ...] = ()):
         self.message = message
         self.file = file
         self.line = line
         self.field = field
+        self.others = tuple(others)
         super().__init__(self.format())
 
+    @property
+    def problems(self) -> list[ConfigError]:
+        """This problem and every other one found in the same file, in the
+        order of their lines (problems without a line first)."""
+        return sorted((self, *self.others), key=lambda e: e.line or 0)
+
     def format(self) -> str:
+        """One line: ``FILE:LINE: field: message``, with ``(and N more
+        problems)`` when the file has others."""
+        text = self.format_one()
+        if self.others:
+            n = len(self.others)
+            text += f" (and {n} more problem{'s' if n > 1 else ''})"
+        return text
+
+    def format_one(self) -> str:
+        """This problem alone as ``FILE:LINE: field: message``."""
         where = ""
         if self.file:
             where = self.file
@@ -49,6 +71,15 @@ class ConfigError(NecflowError):
             where += ": "
         what = f"{self.field}: " if self.field else ""
         return f"{where}{what}{self.message}".replace("\n", " ")
+
+    def lines(self, cap: int = 20) -> list[str]:
+        """Every problem on its own line, in file order, at most ``cap``
+        of them, then ``and N more problems`` for the rest."""
+        every = [p.format_one() for p in self.problems]
+        if len(every) <= cap:
+            return every
+        rest = len(every) - cap
+        return every[:cap] + [f"and {rest} more problem{'s' if rest > 1 else ''}"]
 
 
 class ModelError(NecflowError):

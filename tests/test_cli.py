@@ -33,9 +33,11 @@ def test_bad_input_is_one_line_exit_2_no_traceback(case, tmp_path, capsys):
     code, out, err = _run(["check", str(path)], capsys)
     assert code == 2
     lines = [ln for ln in err.splitlines() if ln.strip() and not ln.startswith("necflow: warning")]
-    assert len(lines) == 1, err
+    assert lines, err
     assert "Traceback" not in err
-    assert lines[0].startswith("necflow: error: ") and str(path) in lines[0]
+    # one line per problem of the file (most cases have one), each naming the file
+    assert all(ln.startswith(f"necflow: error: {path}") for ln in lines), err
+    assert len(lines) == len(set(lines)), err
 
 
 def test_there_are_at_least_thirty_bad_input_cases():
@@ -183,3 +185,91 @@ def test_check_and_evaluate_share_one_rule_for_broken_modelling_rules(tmp_path, 
     assert code_check == code_eval == 1
     assert "not solved" in err_eval and len(err_eval.strip().splitlines()) == 1
     assert not (out_dir / "results.json").exists()
+
+
+# ----------------------------------------------------------------------------
+# Every problem of a design file at once
+
+
+def _cli(*argv, cwd=None):
+    return subprocess.run([sys.executable, "-m", "necflow", *argv], capture_output=True,
+                          text=True, cwd=cwd, timeout=300,
+                          env={**__import__("os").environ, "PYTHONPATH": str(ROOT)})
+
+
+def test_three_independent_errors_print_three_lines(tmp_path):
+    from tests.config.bad_cases import BASE
+    text = (BASE.replace("region: 2", "region: 9")            # line 2
+            .replace("span: 20 m", "span: 20")                # line 6
+            .replace("line: rg-213", "line: rg-214"))         # line 14, a catalog name
+    path = tmp_path / "three.yaml"
+    path.write_text(text, encoding="utf-8")
+    run = _cli("check", str(path))
+    assert run.returncode == 2, run.stderr
+    lines = run.stderr.splitlines()
+    assert len(lines) == 3, run.stderr
+    assert [ln.removeprefix("necflow: error: ").split(": ", 2)[:2] for ln in lines] == [
+        [f"{path}:2", "region"], [f"{path}:6", "antenna.span"],
+        [f"{path}:14", "feed[3].line"]], run.stderr
+    assert "did you mean 'rg-213'?" in lines[2]
+    assert "Traceback" not in run.stderr and not run.stdout
+
+
+def test_many_problems_are_capped(tmp_path, capsys):
+    from necflow.cli import MAX_PROBLEMS
+    from tests.config.bad_cases import BASE
+    extra = "".join(f"  - {{id: x{i}, line: rg-{300 + i}, length: 1 m}}\n" for i in range(25))
+    text = BASE.replace("radio:", extra + "radio:")
+    path = tmp_path / "many.yaml"
+    path.write_text(text, encoding="utf-8")
+    code, _, err = _run(["check", str(path)], capsys)
+    lines = err.splitlines()
+    assert code == 2
+    assert len(lines) == MAX_PROBLEMS + 1
+    assert all("unknown line type" in ln for ln in lines[:-1])
+    assert lines[-1] == f"necflow: error: and {25 - MAX_PROBLEMS} more problems"
+
+
+# ----------------------------------------------------------------------------
+# new and schema
+
+
+def test_new_writes_a_starter_that_checks(tmp_path, capsys):
+    code, out, _ = _run(["new", "inverted-v", "--bands", "20m,15m"], capsys)
+    assert code == 0 and out.startswith("# yaml-language-server: $schema=")
+    path = tmp_path / "v.yaml"
+    path.write_text(out, encoding="utf-8")
+    code, out, err = _run(["check", "--no-convergence", str(path)], capsys)
+    assert code == 0, err
+    assert "is valid" in out
+
+
+def test_new_out_does_not_replace_a_file(tmp_path, capsys):
+    path = tmp_path / "d.yaml"
+    assert _run(["new", "doublet", "--out", str(path)], capsys)[0] == 0
+    first = path.read_text(encoding="utf-8")
+    code, _, err = _run(["new", "wires", "--out", str(path)], capsys)
+    assert code == 2 and "the file exists" in err
+    assert path.read_text(encoding="utf-8") == first
+
+
+def test_new_example_and_list(tmp_path, capsys):
+    code, out, _ = _run(["new", "--example", "end-fed"], capsys)
+    assert code == 0 and out == (CONFIGS / "end-fed.yaml").read_text(encoding="utf-8")
+    code, out, _ = _run(["new", "--list"], capsys)
+    assert code == 0 and "off-centre" in out and "demo" in out
+    code, _, err = _run(["new", "doublet", "--bands", "41m"], capsys)
+    assert code == 2 and "--bands: unknown band '41m'" in err
+    code, _, err = _run(["new"], capsys)
+    assert code == 2 and "name a starter" in err
+
+
+def test_schema_is_json_with_the_design_keys(tmp_path, capsys):
+    code, out, _ = _run(["schema"], capsys)
+    assert code == 0
+    doc = json.loads(out)
+    assert doc["$schema"].endswith("2020-12/schema")
+    assert {"name", "bands", "antenna", "ground", "feed"} <= set(doc["properties"])
+    path = tmp_path / "necflow-design.schema.json"
+    assert _run(["schema", "--out", str(path)], capsys)[0] == 0
+    assert json.loads(path.read_text(encoding="utf-8")) == doc

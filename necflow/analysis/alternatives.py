@@ -1,11 +1,15 @@
 """Alternative feed systems for one antenna, side by side.
 
 Each alternative is a feed chain (antenna side first) analysed against the
-same feedpoint impedance as the design: the design as it is, the design
-without its series parts, a matching unit (lossy L-network, see
-:mod:`necflow.feed.matching`) at the radio or at the feedpoint, and the
-user's own.  An optimised design from a study enters with its own
-feedpoint impedance.  All of this is circuit work: no engine solve.
+same feedpoint impedance as the design, through the same element models:
+the design as it is, the design without its series parts, a shack tuner
+after the chain (with and without the series parts), a remote tuner at the
+feedpoint with one run of coax to the radio, and the user's own (which may
+switch elements per band).  The tuner is the design's own tuner element
+when it has one, else the report's (``report.tuner``: a high-pass T of
+lossy parts, :mod:`necflow.feed.tuners`), set per frequency for the least
+loss within its ranges.  An optimised design from a study enters with its
+own feedpoint impedance.  All of this is circuit work: no engine solve.
 """
 
 from __future__ import annotations
@@ -15,15 +19,18 @@ from dataclasses import dataclass
 import numpy as np
 
 from necflow.analysis.powerflow import SystemResponse, analyse
+from necflow.catalog.bands import resolve_bands
 from necflow.catalog.lines import LINE_TYPES
-from necflow.feed.chain import FeedChain, LineSection, build_chain
-from necflow.feed.matching import MatchingUnit, tune_l_network
+from necflow.config.schema import CapacitorSpec, InductorSpec, TunerElement
+from necflow.feed.adjustable import MatchingNetwork
+from necflow.feed.chain import FeedChain, LineSection, build_chain, matching_network
+from necflow.feed.tuners import TunedNetwork, format_value
 
-TUNER_ID = "matching unit"
-#: Id of the unbalanced run behind a matching unit at the feedpoint.
+TUNER_ID = "added tuner"
+#: Id of the unbalanced run behind a tuner at the feedpoint.
 REMOTE_LINE_ID = "coax"
-#: Line that replaces balanced line when the matching unit sits at the
-#: feedpoint and the chain has no unbalanced line of its own.
+#: Line that replaces balanced line when the tuner sits at the feedpoint and
+#: the chain has no unbalanced line of its own.
 DEFAULT_COAX = "rg-213"
 
 
@@ -37,8 +44,9 @@ class Alternative:
     description : str
         What it changes, in one sentence.
     system : SystemResponse
-        Power flow with the matching unit as element ``TUNER_ID`` if any.
-    tuner : MatchingUnit or None
+        Power flow; every tuner in it as set (``system.tuners``).
+    tuner : TunedNetwork or None
+        The tuner the alternative adds, as set.
     chain : str
         Its chain in words, antenna to radio (:func:`chain_text`).
     """
@@ -46,20 +54,31 @@ class Alternative:
     name: str
     description: str
     system: SystemResponse
-    tuner: MatchingUnit | None = None
+    tuner: TunedNetwork | None = None
     chain: str = ""
 
 
-def _with_tuner(chain: FeedChain, f, z_feed, z_ref, spec, at: str):
-    """The chain with a matching unit tuned at the radio end or the feedpoint."""
+def report_tuner(design, tuner_id: str = TUNER_ID) -> MatchingNetwork:
+    """The tuner the alternatives add: the design's own first tuner element
+    (its ranges, Q and ratings, without its per-band settings), else a
+    high-pass T of the report's parts (``report.tuner``)."""
+    own = next((e for e in design.feed if getattr(e, "tuner", None) is not None), None)
+    if own is not None:
+        el = own.model_copy(update={"id": tuner_id, "settings": {}, "switch": None})
+    else:
+        spec = design.report.tuner
+        el = TunerElement(id=tuner_id, tuner="high-pass-t",
+                          capacitor=CapacitorSpec(min=spec.capacitor_min,
+                                                  max=spec.capacitor_max, q=spec.capacitor_q),
+                          inductor=InductorSpec(max=spec.inductor_max, q=spec.inductor_q))
+    return matching_network(el, 0, design.radio.impedance)
+
+
+def _with_tuner(chain: FeedChain, tuner: MatchingNetwork, at: str) -> FeedChain:
+    """The chain with a tuner at the radio end or at the feedpoint."""
     if at == "radio":
-        load = chain.input_impedance(f, z_feed)
-        unit = tune_l_network(f, load, z_ref, q_inductor=spec.inductor_q,
-                              q_capacitor=spec.capacitor_q, max_swr=spec.max_swr, id=TUNER_ID)
-        return FeedChain(chain.elements + (unit,)), unit
-    unit = tune_l_network(f, z_feed, z_ref, q_inductor=spec.inductor_q,
-                          q_capacitor=spec.capacitor_q, max_swr=spec.max_swr, id=TUNER_ID)
-    return FeedChain((unit,) + chain.elements), unit
+        return FeedChain(chain.elements + (tuner,), dict(chain.out))
+    return FeedChain((tuner,) + chain.elements, dict(chain.out))
 
 
 def remote_chain(chain: FeedChain, line: str | None = None,
@@ -95,7 +114,8 @@ def remote_chain(chain: FeedChain, line: str | None = None,
                      if isinstance(e, LineSection) and not e.line_type.balanced),
                     LINE_TYPES[DEFAULT_COAX])
     if length is None:
-        length = sum(e.length for e in chain.elements if isinstance(e, LineSection))
+        length = sum(e.length for e in chain.elements
+                     if isinstance(e, LineSection) and e.id not in chain.out)
     if length <= 0:
         return FeedChain(())
     return FeedChain((LineSection(REMOTE_LINE_ID, coax, float(length)),))
@@ -106,8 +126,11 @@ def element_label(e) -> str:
     if isinstance(e, LineSection):
         kind = "balanced" if e.line_type.balanced else "unbalanced"
         return f"{e.id}: {e.line_type.name} ({kind}), {e.length:.4g} m"
-    if isinstance(e, MatchingUnit):
-        return f"{e.id}: {e.metadata.get('matching_unit', 'matching unit')}"
+    if isinstance(e, (MatchingNetwork, TunedNetwork)):
+        parts = ", ".join(f"{n} {format_value(p.kind, p.minimum)}-"
+                          f"{format_value(p.kind, p.maximum)}" if not p.discrete else
+                          f"{n} {len(p.values)} values" for n, p in e.tuner.parts.items())
+        return f"{e.id}: {e.tuner.topology} tuner ({parts})"
     if e.kind in ("series", "shunt"):
         unit, scale = {"capacitor": ("pF", 1e12), "inductor": ("uH", 1e6),
                        "resistor": ("ohm", 1.0)}[e.part]
@@ -120,15 +143,19 @@ def element_label(e) -> str:
 
 
 def chain_text(chain: FeedChain) -> str:
-    """The chain in words from the antenna to the radio."""
-    return " -> ".join(["antenna"] + [element_label(e) for e in chain.elements] + ["radio"])
+    """The chain in words from the antenna to the radio (a switched element
+    says so)."""
+    return " -> ".join(["antenna"] + [element_label(e) + (" [switched]" if e.id in chain.out
+                                                          else "")
+                                      for e in chain.elements] + ["radio"])
 
 
 def standard_alternatives(design, f, z_feed, chain: FeedChain) -> list[Alternative]:
-    """The design, without its series parts (only when it has some), with a
-    matching unit at the radio and at the feedpoint (then one unbalanced run
-    to the radio, see :func:`remote_chain`), then the design file's own
-    alternatives.
+    """The design; without its series parts (only when it has some); a
+    shack tuner after the chain, with the series parts and, when it has
+    some, without them; a remote tuner at the feedpoint (then one
+    unbalanced run to the radio, see :func:`remote_chain`); then the design
+    file's own alternatives.
 
     Parameters
     ----------
@@ -142,37 +169,48 @@ def standard_alternatives(design, f, z_feed, chain: FeedChain) -> list[Alternati
     """
     z_ref, power = design.radio.impedance, design.radio.power
     spec = design.report.tuner
+    tuner = report_tuner(design)
 
     def run(c: FeedChain) -> SystemResponse:
         return analyse(c, f, z_feed, z_ref=z_ref, power_w=power)
 
+    def alt(name, text, c, added=None):
+        s = run(c)
+        return Alternative(name, text, s, s.tuners.get(added) if added else None,
+                           chain=chain_text(c))
+
     series = [e.id for e in chain.elements if e.kind == "series"]
-    bare = FeedChain(tuple(e for e in chain.elements if e.kind != "series"))
-    radio_chain, radio_unit = _with_tuner(chain, f, z_feed, z_ref, spec, "radio")
-    remote = remote_chain(chain, spec.remote_line, spec.remote_length)
-    feed_chain, feed_unit = _with_tuner(remote, f, z_feed, z_ref, spec, "feedpoint")
+    no_tuner = chain.with_elements([e for e in chain.elements if e.kind != "tuner"])
+    bare = no_tuner.with_elements([e for e in no_tuner.elements if e.kind != "series"])
+    remote = remote_chain(no_tuner, spec.remote_line, spec.remote_length)
     run_text = (f"{remote.elements[0].line_type.name} of {remote.elements[0].length:.4g} m"
                 if remote.elements else "no line")
-    out = [Alternative("as designed", "the feed system of the design file", run(chain),
-                       chain=chain_text(chain))]
+    what = f"a {tuner.tuner.topology} tuner"
+    out = [alt("as designed", "the feed system of the design file", chain)]
     if series:
-        out.append(Alternative("without series parts", "the design without "
-                               + ", ".join(series), run(bare), chain=chain_text(bare)))
-    out += [
-        Alternative("matching unit at the radio", "the design with a matching unit between "
-                    "the chain and the radio", run(radio_chain), radio_unit,
-                    chain=chain_text(radio_chain)),
-        Alternative("matching unit at the feedpoint", "a matching unit at the antenna in "
-                    f"place of the balanced line, parts and balun, then {run_text} to the "
-                    "radio", run(feed_chain), feed_unit, chain=chain_text(feed_chain)),
-    ]
-    for alt in design.report.alternatives:
-        c = build_chain(alt.feed, r_radio=z_ref)
-        unit = None
-        if alt.tuner != "none":
-            c, unit = _with_tuner(c, f, z_feed, z_ref, spec, alt.tuner)
-        out.append(Alternative(alt.name, "from the design file", run(c), unit,
-                               chain=chain_text(c)))
+        mine = chain.with_elements([e for e in chain.elements if e.kind != "series"])
+        out.append(alt("without series parts", "the design without " + ", ".join(series),
+                       mine))
+    # a design that already ends in a tuner at the radio is its own shack-tuner row
+    shack = not (chain.elements and chain.elements[-1].kind == "tuner")
+    removed = " (its own tuner taken out)" if len(no_tuner) < len(chain) else ""
+    if shack:
+        out.append(alt("shack tuner", f"the design's chain{removed}, then {what} in the shack",
+                       _with_tuner(no_tuner, tuner, "radio"), TUNER_ID))
+    if series and shack:
+        out.append(alt("shack tuner without series parts", f"the design without "
+                       f"{', '.join(series)}, then {what} in the shack",
+                       _with_tuner(bare, tuner, "radio"), TUNER_ID))
+    out.append(alt("remote tuner at the feedpoint", f"{what} at the antenna in place of the "
+                   f"balanced line, parts and balun, then {run_text} to the radio",
+                   _with_tuner(remote, tuner, "feedpoint"), TUNER_ID))
+    bands = resolve_bands(design)
+    for a in design.report.alternatives:
+        c = build_chain(a.feed, r_radio=z_ref, bands=bands)
+        added = None
+        if a.tuner != "none":
+            c, added = _with_tuner(c, tuner, a.tuner), TUNER_ID
+        out.append(alt(a.name, "from the design file", c, added))
     return out
 
 

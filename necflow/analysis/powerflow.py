@@ -20,14 +20,16 @@ way: ``mismatch + sum(elements) = total``.
 
 from __future__ import annotations
 
+import dataclasses
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from necflow.feed import line as tl
 from necflow.feed import metrics, power
-from necflow.feed.chain import FeedChain
+from necflow.feed.chain import FeedChain, resolve
+from necflow.feed.tuners import TunedNetwork, part_stress
 
 
 @dataclass(frozen=True)
@@ -75,6 +77,40 @@ class ElementStress:
     i_rms_out: np.ndarray
     peak_position_m: np.ndarray | None = None
     current_position_m: np.ndarray | None = None
+    parts: dict | None = None
+
+
+@dataclass(frozen=True)
+class RelayStress:
+    """The relay of a switched element, arrays over f.
+
+    A series element (line, series part, transformer, tuner) is switched
+    out by contacts that close across it; a shunt part by contacts in
+    series with it that open.
+
+    Attributes
+    ----------
+    id : str
+        The element's id.
+    closed : ndarray of bool
+        Whether the contacts are closed.
+    out : ndarray of bool
+        Whether the element is out of circuit.
+    v_open_peak : ndarray
+        Peak voltage across the open contacts [V] (NaN where closed).
+    i_closed_rms : ndarray
+        RMS current through the closed contacts [A] (NaN where open).
+    contacts : int
+        Relays (contact sets) it takes: 1 for a part, 2 for a line, a
+        transformer or a tuner (a changeover at each end).
+    """
+
+    id: str
+    closed: np.ndarray
+    out: np.ndarray
+    v_open_peak: np.ndarray
+    i_closed_rms: np.ndarray
+    contacts: int
 
 
 @dataclass(frozen=True)
@@ -117,6 +153,11 @@ class SystemResponse:
         ``p_delivered_w / power_available_w`` [-].
     stress : dict of str to ElementStress
         Per element id.
+    tuners : dict of str to TunedNetwork
+        Each tuner as set for its load (settings, loss, whether it matches,
+        why not).
+    relays : dict of str to RelayStress
+        Each switched element's relay.
     """
 
     f: np.ndarray
@@ -137,6 +178,8 @@ class SystemResponse:
     loss_db: dict[str, np.ndarray]
     delivered_fraction: np.ndarray
     stress: dict[str, ElementStress]
+    tuners: dict = field(default_factory=dict)
+    relays: dict = field(default_factory=dict)
 
 
 def db_ratio(num, den) -> np.ndarray:
@@ -178,6 +221,7 @@ def analyse(chain: FeedChain, f, z_feedpoint, z_ref: float = 50.0,
     f = np.atleast_1d(np.asarray(f, dtype=float))
     nf = f.size
     zfp = np.broadcast_to(np.asarray(z_feedpoint, dtype=complex), (nf,)).copy()
+    chain = resolve(chain, f, zfp)    # tuners set for the load each one sees
     mats = chain.matrices(f)          # antenna side first; each computed once
 
     # The unscaled states from the feedpoint (node N) to the radio (node 0),
@@ -203,12 +247,18 @@ def analyse(chain: FeedChain, f, z_feedpoint, z_ref: float = 50.0,
     p_diss: dict[str, np.ndarray] = {}
     loss: dict[str, np.ndarray] = {"mismatch": db_ratio(p_avail, node_p[:, 0])}
     stress: dict[str, ElementStress] = {}
+    relays: dict[str, RelayStress] = {}
     for k, el in enumerate(reversed(chain.elements)):
         v1, i1, v2, i2 = node_v[:, k], node_i[:, k], node_v[:, k + 1], node_i[:, k + 1]
         p_in, p_out = node_p[:, k], node_p[:, k + 1]
         p_diss[el.id] = p_in - p_out
         loss[el.id] = db_ratio(p_in, p_out)
-        stress[el.id] = _stress(el, f, v1, i1, v2, i2, p_in, p_out)
+        st = _stress(el, f, v1, i1, v2, i2, p_in, p_out)
+        out = chain.out_mask(el.id, f)
+        if out.any():
+            relays[el.id] = _relay(el, out, v1, i1, v2, i2)
+            st = _switched_out(st, out)
+        stress[el.id] = st
     loss["total"] = power.total_loss_db(fraction)
     # Present dissipation and losses in design order (antenna side first).
     p_diss = {i: p_diss[i] for i in ids}
@@ -220,7 +270,46 @@ def analyse(chain: FeedChain, f, z_feedpoint, z_ref: float = 50.0,
         return_loss_db=metrics.return_loss_db(gamma), node_v=node_v, node_i=node_i,
         node_p_w=node_p, p_mismatch_w=p_mismatch, p_dissipated_w=p_diss,
         p_delivered_w=p_delivered, loss_db=loss, delivered_fraction=fraction,
-        stress=stress)
+        stress=stress, relays={i: relays[i] for i in ids if i in relays},
+        tuners={e.id: e for e in chain.elements if isinstance(e, TunedNetwork)})
+
+
+def unmatched(system: SystemResponse) -> np.ndarray:
+    """``(nfreq,)`` True where a tuner in circuit cannot match its load."""
+    tuners, relays = getattr(system, "tuners", {}), getattr(system, "relays", {})
+    out = np.zeros(np.shape(system.swr), dtype=bool)
+    for tid, net in tuners.items():
+        off = (np.asarray(relays[tid].out, dtype=bool) if tid in relays
+               else np.zeros(out.shape, dtype=bool))
+        out |= ~np.asarray(net.can_match, dtype=bool) & ~off
+    return out
+
+
+def _switched_out(st: ElementStress, out: np.ndarray) -> ElementStress:
+    """The stress of an element with nothing across or through it where a
+    relay takes it out of circuit (its dissipation there is exactly 0)."""
+    def zero(a):
+        return None if a is None else np.where(out, 0.0, a)
+    parts = None if st.parts is None else {
+        k: {n: (zero(a) if n != "kind" else a) for n, a in p.items()}
+        for k, p in st.parts.items()}
+    return dataclasses.replace(st, v_peak=zero(st.v_peak), i_rms=zero(st.i_rms), parts=parts)
+
+
+def _relay(el, out, v1, i1, v2, i2) -> RelayStress:
+    """The relay that switches ``el`` out on the frequencies of ``out``."""
+    r2 = math.sqrt(2.0)
+    if el.kind == "shunt":              # contacts in series with the part
+        closed = ~out
+        v_open = np.where(out, r2 * np.abs(v1), np.nan)
+        i_closed = np.where(closed, np.abs(i1 - i2), np.nan)
+        contacts = 1
+    else:                               # contacts across the element
+        closed = out
+        v_open = np.where(~out, r2 * np.abs(v1 - v2), np.nan)
+        i_closed = np.where(closed, np.abs(i1), np.nan)
+        contacts = 1 if el.kind == "series" else 2
+    return RelayStress(el.id, closed, out, v_open, i_closed, contacts)
 
 
 def _stress(el, f, v1, i1, v2, i2, p_in, p_out) -> ElementStress:
@@ -236,6 +325,17 @@ def _stress(el, f, v1, i1, v2, i2, p_in, p_out) -> ElementStress:
         vmax, pos = tl.peak_voltage(gamma, zc, v2, i2, el.length)
         imax, ipos = tl.peak_current(gamma, zc, v2, i2, el.length)
         v_peak, i_rms = r2 * vmax, imax
+    elif el.kind == "tuner":
+        parts = part_stress(el, v1, i1)
+        v_peak = np.fmax.reduce([p["v_peak"] for p in parts.values()])
+        i_rms = np.fmax.reduce([p["i_rms"] for p in parts.values()])
+        # a tuner that cannot match is a through connection: its terminals
+        v_peak = np.where(np.isfinite(v_peak), v_peak, r2 * np.maximum(av1, av2))
+        i_rms = np.where(np.isfinite(i_rms), i_rms, np.maximum(ai1, ai2))
+        return ElementStress(id=el.id, kind=el.kind, v_peak=v_peak, i_rms=i_rms,
+                             p_diss_w=p_in - p_out, p_in_w=p_in, p_out_w=p_out,
+                             v_rms_in=av1, v_rms_out=av2, i_rms_in=ai1, i_rms_out=ai2,
+                             parts=parts)
     else:
         # transformer, and choke: terminal figures.  A choke passes the
         # differential mode unchanged (identity matrix), so its terminals

@@ -24,6 +24,14 @@ def ratings_of(feed: Iterable[Any]) -> dict[str, dict[str, float]]:
         got = {k: getattr(el, k) for k in _RATING_FIELDS if getattr(el, k, None) is not None}
         if got:
             out[el.id] = got
+        if getattr(el, "tuner", None) is not None:     # a tuner's parts: '<id>.c1' ...
+            caps = ("c",) if el.tuner == "l-network" else ("c1", "c2")
+            for name in caps:
+                rating = el.capacitor_for(name).voltage_rating
+                if rating is not None:
+                    out[f"{el.id}.{name}"] = {"voltage_rating": rating}
+            if el.inductor.current_rating is not None:
+                out[f"{el.id}.l"] = {"current_rating": el.inductor.current_rating}
     return out
 
 
@@ -60,8 +68,27 @@ def cautions(system: SystemResponse, voltage_threshold: float | None = None,
         ratings = ratings_of(ratings)
     f = system.f
     out: list[str] = []
+    for eid, net in system.tuners.items():
+        off = system.relays[eid].out if eid in system.relays else np.zeros(f.size, bool)
+        bad = ~np.asarray(net.can_match, dtype=bool) & ~off
+        if bad.any():
+            k = int(np.flatnonzero(bad)[0])
+            out.append(f"{eid}: cannot match at {int(bad.sum())} of {int((~off).sum())} "
+                       f"points, {f[bad].min() / 1e6:.4g}-{f[bad].max() / 1e6:.4g} MHz "
+                       f"({net.reason[k]}); those points are reported as not matched")
     for eid in system.element_ids:
         s = system.stress[eid]
+        for name, part in (s.parts or {}).items():
+            pid = f"{eid}.{name.lower()}"
+            prate = ratings.get(pid, {})
+            for key, arr, what, unit in (("voltage_rating", part["v_peak"], "peak voltage",
+                                          "V"),
+                                         ("current_rating", part["i_rms"], "RMS current",
+                                          "A")):
+                if key in prate and np.isfinite(arr).any() and np.nanmax(arr) > prate[key]:
+                    x, fq = _worst(arr, f)
+                    out.append(f"{pid}: {what} {x:.4g} {unit} at {fq / 1e6:.4g} MHz exceeds "
+                               f"its {prate[key]:.4g} {unit} rating")
         rate = ratings.get(eid, {})
         if voltage_threshold is not None and np.nanmax(s.v_peak) > voltage_threshold:
             v, fq = _worst(s.v_peak, f)

@@ -17,7 +17,7 @@ from necflow.analysis.powerflow import SystemResponse
 
 #: Element kinds whose power rating is compared with the power passing
 #: through them (their own dissipation is not what their rating states).
-THROUGH_POWER_KINDS = ("transformer", "choke")
+THROUGH_POWER_KINDS = ("transformer", "choke", "tuner")
 
 
 @dataclass(frozen=True)
@@ -94,7 +94,36 @@ def stress_rows(system: SystemResponse, ratings: dict, worst_power_w: float,
         rows.append(StressRow(eid, st.kind, float(v.max()), float(vw), float(f[sel][k]), pos,
                               float(i.max()), float(iw), float(p.max()), float(pw), rate,
                               margin, tuple(notes), float(f[sel][ki]), ipos))
+        for name, part in (st.parts or {}).items():
+            row = _part_row(f"{eid}.{name.lower()}", part, sel, f, ratings, p0,
+                            worst_power_w)
+            if row is not None:
+                rows.append(row)
     return rows
+
+
+def _part_row(pid: str, part: dict, sel, f, ratings: dict, p0: float,
+              worst_power_w: float) -> StressRow | None:
+    """The row of one part of a tuner (None where it is never in circuit)."""
+    v, i, p = part["v_peak"][sel], part["i_rms"][sel], part["p_diss_w"][sel]
+    if not np.isfinite(v).any():
+        return None
+    k, ki = int(np.nanargmax(v)), int(np.nanargmax(i))
+    vw, iw, pw = scale_to_power(np.nanmax(v), np.nanmax(i), np.nanmax(p), p0, worst_power_w)
+    kind = f"tuner {part['kind']}"
+    rate = dict(ratings.get(pid, {}))
+    got = {"voltage_rating": float(vw), "current_rating": float(iw)}
+    margin, notes = {}, []
+    for name in _applicable(kind):
+        if name in rate:
+            margin[name] = rate[name] / got[name] if got[name] > 0 else math.inf
+            if margin[name] < 1.0:
+                notes.append(f"{name.replace('_', ' ')} exceeded at {worst_power_w:g} W")
+        else:
+            notes.append(f"no {name.replace('_', ' ')} given")
+    return StressRow(pid, kind, float(np.nanmax(v)), float(vw), float(f[sel][k]), None,
+                     float(np.nanmax(i)), float(iw), float(np.nanmax(p)), float(pw), rate,
+                     margin, tuple(notes), float(f[sel][ki]), None)
 
 
 def p_through(st, sel, p0, p_to) -> float:
@@ -111,4 +140,8 @@ def _applicable(kind: str) -> tuple[str, ...]:
         return ("voltage_rating", "current_rating", "power_rating")
     if kind == "common-mode":
         return ("power_rating",)
+    if kind == "tuner capacitor":
+        return ("voltage_rating",)
+    if kind == "tuner inductor":
+        return ("current_rating",)
     return ()

@@ -14,6 +14,7 @@ polished.  Parameter uncertainties come from the Jacobian at the solution,
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -116,7 +117,8 @@ def _covariance(jac: np.ndarray, r: np.ndarray) -> np.ndarray:
 def fit_design(design: Design, measurements: list[Measurement], params: list[Param], *,
                starts: int = 4, polish: int = 2, seed: int = 0, loss: str = "soft_l1",
                f_scale: float = 0.05, responder: Responder | None = None,
-               max_nfev: int = 40) -> FitResult:
+               max_nfev: int = 40,
+               on_step: Callable[[int, int | None, str], None] | None = None) -> FitResult:
     """Fit ``params`` of ``design`` to the sweeps.
 
     Parameters
@@ -139,6 +141,10 @@ def fit_design(design: Design, measurements: list[Measurement], params: list[Par
         Shared solver cache.
     max_nfev : int
         Residual evaluations per polished start.
+    on_step : callable, optional
+        ``on_step(done, total, text)`` before each residual evaluation (a
+        command's progress): the starts are counted, a refinement's
+        evaluations are not known in advance.
 
     Raises
     ------
@@ -156,8 +162,12 @@ def fit_design(design: Design, measurements: list[Measurement], params: list[Par
                           field="uncertain")
     start = {p.path: float(current_value(design, p.path)) for p in params}
     bad_residual = np.full(n_points, 2.0)
+    phase = {"done": 0, "total": None, "text": ""}
 
     def fun(u):
+        if on_step is not None:
+            on_step(phase["done"], phase["total"], phase["text"])
+            phase["done"] += 1
         try:
             variant = set_values(design, from_unit(params, u))
             return residuals(gammas(responder, variant, measurements), measurements)
@@ -171,12 +181,15 @@ def fit_design(design: Design, measurements: list[Measurement], params: list[Par
     rng = np.random.default_rng(seed)
     u0 = to_unit(params, start)
     candidates = [u0] + [rng.uniform(0.0, 1.0, len(params)) for _ in range(max(starts - 1, 0))]
+    phase.update(total=len(candidates), text="scoring the starting points")
     r0 = fun(u0)
     scored = [(rho_cost(r0), 0)] + [(rho_cost(fun(u)), i) for i, u in
                                     enumerate(candidates[1:], start=1)]
     scored.sort()
     best = None
-    for _, i in scored[:max(polish, 1)]:
+    chosen = scored[:max(polish, 1)]
+    for k, (_, i) in enumerate(chosen):
+        phase.update(done=0, total=None, text=f"refining start {k + 1} of {len(chosen)}")
         res = least_squares(fun, candidates[i], bounds=(0.0, 1.0), loss=loss,
                             f_scale=f_scale, diff_step=1e-2, x_scale=1.0, max_nfev=max_nfev,
                             xtol=1e-6, ftol=1e-10, gtol=1e-10)

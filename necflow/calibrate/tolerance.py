@@ -14,6 +14,7 @@ draws them, while the feed variants cost no solve.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import matplotlib
@@ -75,10 +76,13 @@ class ToleranceResult:
 
 
 def monte_carlo(design: Design, *, samples: int | None = None, seed: int | None = None,
-                responder: Responder | None = None) -> ToleranceResult:
+                responder: Responder | None = None,
+                on_step: Callable[[int, int | None, str], None] | None = None
+                ) -> ToleranceResult:
     """Run the tolerance Monte Carlo of a design (see the module notes):
     the cases through :func:`necflow.chain.cases.evaluate_cases`, each
-    geometry state solved once, the feed variants of a state in one batch."""
+    geometry state solved once, the feed variants of a state in one batch;
+    ``on_step(done, total, text)`` before each solve (a command's progress)."""
     tols = parse_tolerances(design)
     if not tols and design.tolerances.ground is None:
         raise ConfigError("no tolerances: give 'tolerances.fields' (e.g. "
@@ -88,7 +92,9 @@ def monte_carlo(design: Design, *, samples: int | None = None, seed: int | None 
     cases = scenarios(design, tols, samples=samples, seed=seed)
     responder = responder or Responder(design)
     chain = responder.chain(design)
-    result = evaluate_cases(chain, cases)
+    if on_step is not None:
+        chain.solve(lambda done, total, text: on_step(done, total, f"nominal design: {text}"))
+    result = evaluate_cases(chain, cases, on_step)
     nominal = chain.system.swr
     return ToleranceResult(bands=chain.bands, frequency_hz=chain.frequency_hz,
                            band_index=chain.band_index, swr=result.swr,

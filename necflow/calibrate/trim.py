@@ -14,6 +14,7 @@ length changes are rounded to 5 mm.
 from __future__ import annotations
 
 import itertools
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -184,11 +185,19 @@ class _Objective:
     """Relative frequency errors of the targets (in units of the 1 % tolerance)
     for full sets of field values, plus a light pull toward the start."""
 
-    def __init__(self, design, responder, targets, start):
+    def __init__(self, design, responder, targets, start, on_step=None):
         self.design, self.responder, self.targets, self.start = design, responder, targets, start
         self.tf = np.array([t.frequency_hz for t in targets])
+        self.on_step, self.phase, self.done = on_step, "", 0
+
+    def begin(self, phase: str) -> None:
+        """Name the phase the next evaluations belong to (progress)."""
+        self.phase, self.done = phase, 0
 
     def errors(self, values: dict) -> np.ndarray:
+        if self.on_step is not None:
+            self.on_step(self.done, None, self.phase)
+            self.done += 1
         try:
             found = minima(self.responder, set_values(self.design, values), self.targets)
         except (ConfigError, ModelError):
@@ -208,7 +217,10 @@ class _Objective:
         best = None
         cands = [to_unit(free, values)] + [rng.uniform(0, 1, len(free))
                                            for _ in range(starts - 1)]
-        for c in cands:
+        names = ", ".join(p.path for p in free)
+        for k, c in enumerate(cands):
+            self.begin(f"searching {names}" + (f" (start {k + 1} of {len(cands)})"
+                                               if len(cands) > 1 else ""))
             res = least_squares(fun, c, bounds=(0.0, 1.0), diff_step=1e-3, max_nfev=30,
                                 xtol=1e-5, ftol=1e-8)
             if best is None or res.cost < best.cost:
@@ -226,6 +238,7 @@ class _Objective:
         if feed:
             values = self.solve(feed, {**held, **{p.path: values[p.path] for p in free
                                                   if p.geometry}}, values, rng, starts)
+        self.begin("checking the targets")
         if any(p.geometry for p in free) and np.any(np.abs(self.errors(values)) > 1.0):
             values = self.solve(free, held, values, rng, 1)
         return values
@@ -256,7 +269,9 @@ def _snap_parts(obj: _Objective, cont: list[Param], fixed: dict, values: dict, r
         other = nearest_e12(v * v / near)      # the neighbour on the other side
         options.append([near] + ([other] if other != near and k < 3 else []))
     best, best_cost = values, np.inf
-    for combo in itertools.product(*options):
+    combos = list(itertools.product(*options))
+    for k, combo in enumerate(combos):
+        obj.begin(f"standard part values, set {k + 1} of {len(combos)}")
         held = {**fixed, **{p.path: c for p, c in zip(parts, combo)}}
         trial = obj.cheapest_first(rest, held, values, rng, 1) if rest else held
         cost = float(np.sum(obj.errors(trial) ** 2))
@@ -269,7 +284,8 @@ def _snap_parts(obj: _Objective, cont: list[Param], fixed: dict, values: dict, r
 
 def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None = None, *,
                 seed: int = 0, responder: Responder | None = None,
-                evaluate_steps: bool = True) -> TrimResult:
+                evaluate_steps: bool = True,
+                on_step: Callable[[int, int | None, str], None] | None = None) -> TrimResult:
     """Propose changes of the adjustable fields that put each targeted band's
     lowest SWR at its target.
 
@@ -288,6 +304,10 @@ def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None
         Shared solve cache.
     evaluate_steps : bool
         Evaluate every band after each step (for the tables and warnings).
+    on_step : callable, optional
+        ``on_step(done, total, text)`` before each model evaluation of the
+        searches (their count is not known in advance) and before each
+        step's evaluation of every band (a command's progress).
     """
 
     tlist = resolve_targets(design, targets)
@@ -304,7 +324,7 @@ def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None
     start = {p.path: float(current_value(design, p.path)) for p in params}
     fixed = {p.path: start[p.path] for p in params if p.choices is not None}
     rng = np.random.default_rng(seed)
-    obj = _Objective(design, responder, tlist, start)
+    obj = _Objective(design, responder, tlist, start, on_step)
     values = obj.cheapest_first(cont, fixed, dict(start), rng, starts=3)
     values = _snap_parts(obj, cont, fixed, values, rng)
     for p in params:
@@ -315,6 +335,8 @@ def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None
                                                    rtol=1e-9, atol=1e-12)]
     changed.sort(key=lambda p: step_order(p.path))
     final = set_values(design, {p.path: values[p.path] for p in params})
+    if on_step is not None:
+        on_step(0, None, "checking the trimmed design")
     found = minima(responder, final, tlist)
     reached = {t.band.name: f for t, (f, _) in zip(tlist, found)}
     unreachable = {}
@@ -338,9 +360,16 @@ def trim_design(design: Design, targets: dict[str, str], adjustable: dict | None
                                     f"{100 * (f / t.frequency_hz - 1):+.1f} % from the target: "
                                     + why)
     steps, warns = [], []
+
+    def every_band(k: int, what: str) -> None:
+        if on_step is not None and evaluate_steps:
+            on_step(k, len(changed) + 1, f"every band {what}")
+
+    every_band(0, "before the changes")
     before = responder.chain(design).evaluation.band_summaries() if evaluate_steps else []
     current, prev = design, before
-    for p in changed:
+    for k, p in enumerate(changed, start=1):
+        every_band(k, f"after step {k}, {p.path}")
         current = set_values(current, {p.path: values[p.path]})
         after = responder.chain(current).evaluation.band_summaries() if evaluate_steps \
             else []

@@ -10,6 +10,7 @@ same element physics as a single design, in numpy.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
@@ -40,8 +41,14 @@ def _batch_field(chain: Chain, path: str) -> tuple[str, str] | None:
     return (parts[1], parts[2]) if parts[2] in SUPPORTED.get(kind, ()) else None
 
 
-def evaluate_cases(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
+def evaluate_cases(chain: Chain, cases: list[dict[str, Any]],
+                   on_step: Callable[[int, int | None, str], None] | None = None
+                   ) -> CaseResults:
     """Apply each case's values [SI] to ``chain``'s design and evaluate it.
+
+    With ``on_step`` (a command's progress), ``on_step(done, total, text)``
+    comes before each geometry state is solved (each case, with a route),
+    and the states are solved one at a time instead of in one call.
 
     Raises
     ------
@@ -50,7 +57,7 @@ def evaluate_cases(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
     """
     f = chain.frequency_hz
     if chain.routed:
-        return _one_by_one(chain, cases)
+        return _one_by_one(chain, cases, on_step)
     paths = sorted({p for c in cases for p in c})
     batched = {p: _batch_field(chain, p) for p in paths}
     groups: dict[tuple, list[int]] = {}
@@ -72,8 +79,15 @@ def evaluate_cases(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
         except ModelError as exc:
             raise ModelError(f"tolerance case {idx[0]}: {exc}") from None
     # every geometry state asked of the cache together (solved in parallel
-    # where the solver runs a pool), then read back one by one
-    prefetch(list(members.values()))
+    # where the solver runs a pool), then read back one by one; with a
+    # progress callback, one state at a time
+    if on_step is None:
+        prefetch(list(members.values()))
+    else:
+        for k, (key, member) in enumerate(members.items()):
+            on_step(k, len(members), f"geometry state {k + 1} of {len(members)} "
+                    f"({len(groups[key])} case{'s' if len(groups[key]) != 1 else ''})")
+            prefetch([member])
     for key, idx in groups.items():
         member = members[key]
         batch = FeedBatch(member.feed, f, varied)
@@ -86,7 +100,7 @@ def evaluate_cases(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
     return CaseResults(swr=swr, loss_db=loss, chains=chains)  # type: ignore[arg-type]
 
 
-def _one_by_one(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
+def _one_by_one(chain: Chain, cases: list[dict[str, Any]], on_step=None) -> CaseResults:
     """Cases of a design with a route: each its own chain (the heat of its
     chokes belongs in its budget, which the batch does not hold); cases of one
     geometry still share a solve through the cache."""
@@ -96,6 +110,8 @@ def _one_by_one(chain: Chain, cases: list[dict[str, Any]]) -> CaseResults:
     chains = []
     entry = np.zeros((len(cases), f.size))
     for i, c in enumerate(cases):
+        if on_step is not None:
+            on_step(i, len(cases), f"case {i + 1} of {len(cases)}")
         try:
             member = chain.variant(c)
         except ConfigError as exc:

@@ -56,6 +56,9 @@ class Evaluation:
     common_mode : CommonMode or None
         With a route: currents on the line's outside and heat in its chokes
         at the radio's power (:mod:`necflow.analysis.common_mode`).
+    tuning : list of dict
+        The tuning chart of the tuners in the chain
+        (:func:`necflow.analysis.tuning.tuning_chart`); empty without one.
     """
 
     design: Design
@@ -69,6 +72,7 @@ class Evaluation:
     feed: FeedChain | None = None
     models: tuple = ()
     common_mode: object = None
+    tuning: list = field(default_factory=list)
 
     def band_summaries(self) -> list[BandSummary]:
         """Lowest SWR and where, SWR at the edges and mean loss, per band."""

@@ -6,9 +6,11 @@ from __future__ import annotations
 
 import os
 
+from necflow.catalog.bands import resolve_bands
 from necflow.config.load import at_field, read_design_text, validate_design_text
 from necflow.config.schema import Design
 from necflow.errors import ConfigError, ModelError
+from necflow.feed import build_chain
 from necflow.model import check_variant
 
 
@@ -39,6 +41,8 @@ def load_design_text(text: str, file: str = "<string>") -> Design:
     design, lines = validate_design_text(text, file)
     try:
         check_variant(design)
+        # the bands a switch or a tuner's settings name, the settings' ranges
+        build_chain(design.feed, design.radio.impedance, bands=resolve_bands(design))
     except (ConfigError, ModelError) as exc:
         raise at_field(exc, file, lines) from None
     return design

@@ -80,15 +80,19 @@ def far_field_frequencies(evaluation) -> tuple[np.ndarray, np.ndarray]:
     return np.array(f), np.array(idx)
 
 
-def _far_field_records(evaluation, far_field_fn, agt_fn) -> list[dict]:
+def _far_field_records(evaluation, far_field_fn, agt_fn, on_step=None) -> list[dict]:
     d = evaluation.design
     angles = np.array([e.elevation for e in d.report.elevations])
     f, idx = far_field_frequencies(evaluation)
     models = evaluation.models or tuple(evaluation.model for _ in evaluation.bands)
     ffs: list = [None] * f.size
     agt = np.empty(f.size)
-    for m in {id(m): m for m in models}.values():      # each band's own model
+    distinct = {id(m): m for m in models}.values()
+    for k, m in enumerate(distinct):                   # each band's own model
         sel = np.flatnonzero([models[int(i)] is m for i in idx])
+        if on_step is not None:
+            names = dict.fromkeys(evaluation.bands[int(i)].name for i in idx[sel])
+            on_step(k, len(distinct), f"far field of {', '.join(names)}")
         for k, ff in zip(sel, far_field_fn(m, f[sel], angles=angles)):
             ffs[k] = ff
         agt[sel] = np.asarray(agt_fn(m, f[sel]), dtype=float)
@@ -135,13 +139,18 @@ def _alternative_record(alt: Alternative, evaluation, n_points: int, gains: dict
                "loss_db": loss, "loss_db_mean": float(np.mean(s.loss_db["total"][sel])),
                "delivered_w": float(s.p_delivered_w[c]),
                "system_gain_dbi": None if g is None else system_gain_dbi(g, loss["total"])}
-        if alt.tuner is not None:
-            t = alt.tuner
-            rec["tuner"] = {"can_match_all": bool(np.all(t.can_match[sel])),
-                            "can_match_centre": bool(t.can_match[c]),
-                            "loss_db": float(t.loss_db[c]), "topology": str(t.topology[c]),
-                            "inductance_h": float(t.inductance_h[c]),
-                            "capacitance_f": float(t.capacitance_f[c])}
+        tuners = {}
+        for tid, t in s.tuners.items():
+            off = s.relays[tid].out if tid in s.relays else np.zeros(s.f.size, bool)
+            if off[c]:
+                continue
+            tuners[tid] = {"can_match_all": bool(np.all(t.can_match[sel] | off[sel])),
+                           "can_match_centre": bool(t.can_match[c]),
+                           "loss_db": float(t.loss_db[c]), "topology": t.topology,
+                           "reason": str(t.reason[c]),
+                           "settings": {k.lower(): float(v[c]) for k, v in t.settings.items()}}
+        if tuners:
+            rec["tuners"] = tuners
         bands.append(rec)
     return {"name": alt.name, "description": alt.description, "chain": alt.chain,
             "bands": bands,
@@ -173,7 +182,7 @@ def _optimised(study_dir: Path, evaluation, f_all):
 
 def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
                       far_field_fn: Callable | None = None,
-                      agt_fn: Callable | None = None) -> dict:
+                      agt_fn: Callable | None = None, on_step: Callable | None = None) -> dict:
     """Everything the HTML report shows beyond ``results.json``.
 
     Parameters
@@ -186,12 +195,14 @@ def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
     far_field_fn, agt_fn : callable, optional
         ``far_field(model, f, angles=)`` and ``average_gain_test(model, f)``;
         default to the engine's.  Tests pass stand-ins.
+    on_step : callable, optional
+        ``on_step(done, total, text)`` before each solve (a command's progress).
     """
     if far_field_fn is None or agt_fn is None:
         far_field_fn = far_field_fn or far_field
         agt_fn = agt_fn or average_gain_test
     d = evaluation.design
-    ff = _far_field_records(evaluation, far_field_fn, agt_fn)
+    ff = _far_field_records(evaluation, far_field_fn, agt_fn, on_step)
     gains = {r["band"]: np.asarray(r["gain_at_angles_dbi"]) for r in ff if r["centre"]}
     peak = {r["band"]: r["peak_gain_dbi"] for r in ff if r["centre"]}
     f_c, z_c = band_centres(evaluation)
@@ -251,12 +262,12 @@ def build_report_data(evaluation, *, config_sha256: str = "", study_dir=None,
         "stress_by_band": {k: [r.__dict__ for r in v] for k, v in stress_band.items()},
         "exposure": exposure, "exposure_basis": exposure_basis(over_ground),
         "efficiency_convention": EFFICIENCY_CONVENTION,
-        "common_mode": _common_mode_record(evaluation, ff, far_field_fn),
+        "common_mode": _common_mode_record(evaluation, ff, far_field_fn, on_step),
     }
     return fileio.json_ready(doc)
 
 
-def _common_mode_record(evaluation, ff: list[dict], far_field_fn) -> dict | None:
+def _common_mode_record(evaluation, ff: list[dict], far_field_fn, on_step=None) -> dict | None:
     """Per band, with a route: the common-mode current at each probe and the
     heat in each choke (largest over the band, at the radio's power), the SWR
     at the radio with the line modelled and with an ideal line, and the peak
@@ -267,6 +278,8 @@ def _common_mode_record(evaluation, ff: list[dict], far_field_fn) -> dict | None
         return None
     d = evaluation.design
     ideal = Chain(d.model_copy(update={"route": None}))
+    ideal.solve(None if on_step is None else
+                lambda done, total, text: on_step(done, total, f"{text}, ideal line"))
     swr, swr0 = evaluation.system.swr, ideal.system.swr
     angles = np.array([e.elevation for e in d.report.elevations])
     centre_ff = {r["band"]: r for r in ff if r["centre"]}
@@ -281,6 +294,8 @@ def _common_mode_record(evaluation, ff: list[dict], far_field_fn) -> dict | None
                "swr_change_max": float(np.max(np.abs(swr[sel] - swr0[sel]) / swr0[sel]))}
         rec.update(_line_radiation(evaluation, i, fc))
         if b.name in centre_ff:
+            if on_step is not None:
+                on_step(i, len(evaluation.bands), f"far field of {b.name}, ideal line")
             (g0,) = far_field_fn(ideal.models[i], np.array([fc]), angles=angles)
             rec["peak_gain_dbi"] = centre_ff[b.name]["peak_gain_dbi"]
             rec["peak_gain_dbi_ideal_line"] = float(g0.peak_gain_dbi)
@@ -350,8 +365,10 @@ def _with_system_gain(ff: list[dict], system, f_all: np.ndarray) -> None:
         r["system_gain_dbi"] = system_gain_dbi(np.asarray(r["gain_at_angles_dbi"], float), loss)
 
 
-def report_data(chain: Chain, *, config_sha256: str = "", study_dir=None) -> dict:
+def report_data(chain: Chain, *, config_sha256: str = "", study_dir=None,
+                on_step: Callable | None = None) -> dict:
     """The report stage of a chain: :func:`build_report_data` of its
-    evaluation (the engine runs the far field here; the report renders)."""
+    evaluation (the engine runs the far field here; the report renders);
+    ``on_step(done, total, text)`` before each solve."""
     return build_report_data(chain.evaluation, config_sha256=config_sha256,
-                             study_dir=study_dir)
+                             study_dir=study_dir, on_step=on_step)

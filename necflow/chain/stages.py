@@ -41,6 +41,8 @@ from necflow.analysis.common_mode import (
     common_mode_cautions,
     with_common_mode,
 )
+from necflow.analysis.stress_cautions import ratings_of
+from necflow.analysis.tuning import chart_frequencies, tuning_chart
 from necflow.catalog.bands import Band, resolve_bands
 from necflow.chain.evaluation import Evaluation
 from necflow.config.fields import apply, moves_wires
@@ -274,6 +276,21 @@ class Chain:
                                        for fi in self.frequency_hz])
         return common_mode(self._ideal_system, per_volt, loads)
 
+    def solve(self, on_step: Callable[[int, int | None, str], None] | None = None) -> None:
+        """Solve the antenna response of every band now, one band's model at
+        a time, calling ``on_step(done, total, text)`` before each (a
+        command's progress); :attr:`antenna` then reads memory.  The same
+        lookups :attr:`antenna` makes, so nothing is solved twice."""
+        groups = self._by_model(self.frequency_hz)
+        for k, (m, _, u) in enumerate(groups):
+            if on_step is not None:
+                names = [b.name for b, mb in zip(self.bands, self.models) if mb is m]
+                on_step(k, len(groups), f"solving {', '.join(names)} ({u.size} frequencies)")
+            if self.routed:
+                self.responses.lookup_routed(m, u)
+            else:
+                self.responses.lookup_each([m], [u])
+
     def solve_requests(self) -> list[tuple[WireModel, np.ndarray]]:
         """The (model, distinct frequencies) pairs :attr:`antenna` asks the
         response cache for (see :func:`prefetch`)."""
@@ -284,7 +301,8 @@ class Chain:
     @cached_property
     def feed(self) -> FeedChain:
         """The feed chain's elements, antenna side first."""
-        return build_chain(self.design.feed, r_radio=self.design.radio.impedance)
+        return build_chain(self.design.feed, r_radio=self.design.radio.impedance,
+                           bands=self.bands)
 
     @cached_property
     def _ideal_system(self):
@@ -315,13 +333,35 @@ class Chain:
         return out
 
     @cached_property
+    def tuning(self) -> list[dict]:
+        """The tuning chart: each tuner at each band's edges and centre
+        (:func:`necflow.analysis.tuning.tuning_chart`), the feedpoint
+        impedance at the centre interpolated along the band's points; empty
+        without a tuner."""
+        if not self.feed.has_tuner:
+            return []
+        f3 = chart_frequencies(self.bands)
+        z = self.antenna
+        z3 = np.empty(f3.size, dtype=complex)
+        for i in range(len(self.bands)):
+            sel = self.band_index == i
+            fb, zb = self.frequency_hz[sel], z[sel]
+            for j in range(3):
+                fk = f3[3 * i + j]
+                z3[3 * i + j] = np.interp(fk, fb, zb.real) + 1j * np.interp(fk, fb, zb.imag)
+        d = self.design
+        system = analyse(self.feed, f3, z3, z_ref=d.radio.impedance, power_w=d.radio.power)
+        return tuning_chart(system, self.bands, d.report.worst_case_power, ratings_of(d.feed))
+
+    @cached_property
     def evaluation(self) -> Evaluation:
         """Every stage of the design as one :class:`Evaluation`."""
         return Evaluation(design=self.design, bands=self.bands,
                           frequency_hz=self.frequency_hz, band_index=self.band_index,
                           model=self.wire_model, system=self.system,
                           findings=self.findings, cautions=self.cautions, feed=self.feed,
-                          models=self.models, common_mode=self.common_mode)
+                          models=self.models, common_mode=self.common_mode,
+                          tuning=self.tuning)
 
     # -- far field ---------------------------------------------------------
 

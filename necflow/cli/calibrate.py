@@ -8,7 +8,8 @@ never print.
 
 from __future__ import annotations
 
-import json
+import dataclasses
+import sys
 from pathlib import Path
 
 from necflow import fileio, units
@@ -19,6 +20,7 @@ from necflow.calibrate.tolerance import monte_carlo, tolerance_figure
 from necflow.calibrate.trim import resolve_targets, trim_design
 from necflow.catalog.bands import resolve_bands
 from necflow.chain import load_design
+from necflow.cli.progress import steps_of
 from necflow.cli.status import OK
 from necflow.config.fields import build_params, parse_range_option
 from necflow.config.resolve import resolved_yaml
@@ -67,7 +69,8 @@ def _fmt(p, v) -> str:
 
 
 def cmd_fit(args) -> int:
-
+    steps = steps_of(args, "fit", sys.stderr)
+    steps.note(f"reading {args.design} and the sweeps")
     design = load_design(args.design)
     if not 1 <= args.starts <= 1000:
         raise ConfigError(f"give 1 to 1000 starting points, got {args.starts}",
@@ -87,12 +90,13 @@ def cmd_fit(args) -> int:
         check_overlap(s, bands)
     section = {**design.uncertain, **_checked_ranges(design, args.vary, "--vary")}
     params = build_params(design, section, key="uncertain", file=args.design)
+    out = _out_folder(Path(args.out) if args.out else Path("runs") / f"{design.name}-fit")
     responder = Responder(design, sweeps)
     result = fit_design(design, sweeps, params, starts=args.starts, seed=args.seed,
-                        responder=responder)
+                        responder=responder, on_step=steps)
+    steps(0, None, "the model before and after against the sweeps")
     before, model = compare(design, sweeps, responder)
     after, calibrated = compare(result.design, sweeps, responder)
-    out = _out_folder(Path(args.out) if args.out else Path("runs") / f"{design.name}-fit")
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
@@ -101,6 +105,25 @@ def cmd_fit(args) -> int:
     fileio.save_figure(overlay_figure(sweeps, model, calibrated_mags=calibrated,
                                       title=f"{design.name}: model and measurement"),
                        out / "overlay.png", dpi=110)
+    steps.close()
+    files = {"calibrated_design": str(out / "design.calibrated.yaml"),
+             "overlay": str(out / "overlay.png")}
+    if args.json:
+        sys.stdout.write(fileio.json_text({
+            "design": design.name, "sweeps": [str(p) for p in args.measured],
+            "complex_data": result.complex_data, "solves": result.solves,
+            "fields": [{"path": p.path, "unit": p.dimension and units.DIMENSIONS[p.dimension][1],
+                        "before": result.start[p.path], "fitted": result.values[p.path],
+                        "sigma": result.sigma[p.path], "at_range_end": result.at_bound[p.path]}
+                       for p in params],
+            "residual_rms_before": result.rms_before, "residual_rms_after": result.rms_after,
+            "bands": [{"band": b.band, "sweep": b.source,
+                       "measured_f_swr_min_hz": b.measured_f_min_hz,
+                       "model_f_swr_min_hz_before": b.model_f_min_hz,
+                       "model_f_swr_min_hz_after": a.model_f_min_hz,
+                       "shift_before_hz": b.shift_hz} for b, a in zip(before, after)],
+            "notes": result.notes, "files": files}))
+        return OK
     print(f"{design.name}: fitted {len(params)} field(s) to {len(sweeps)} sweep(s) "
           f"({'complex reflection' if result.complex_data else 'SWR magnitude only'}), "
           f"{result.solves} antenna solves")
@@ -132,7 +155,8 @@ def _band_line(b) -> str:
 
 
 def cmd_trim(args) -> int:
-
+    steps = steps_of(args, "trim", sys.stderr)
+    steps.note(f"reading {args.design}")
     design = load_design(args.design)
     _seed(args.seed)
     given = {}
@@ -149,7 +173,36 @@ def cmd_trim(args) -> int:
             raise ConfigError(f"{band}: {exc.message}", field="--target") from None
     targets = {**design.targets, **given}
     adjust = _checked_ranges(design, args.adjust, "--adjust") if args.adjust else None
-    r = trim_design(design, targets, adjust, seed=args.seed)
+    r = trim_design(design, targets, adjust, seed=args.seed, on_step=steps)
+    steps.close()
+    if args.write:
+        fileio.write_text(args.write, resolved_yaml(r.design))
+    if args.json:
+        _trim_json(design, r, args.write)
+    else:
+        _trim_text(design, r, args.write)
+    if r.targets and all(t.band.name in r.unreachable for t in r.targets):
+        raise GoalNotMet("no targeted band was reached ("
+                         + ", ".join(t.band.name for t in r.targets) + "); see "
+                         + ("'unreachable' in the output" if args.json else
+                            "'cannot reach' above") + " for why")
+    return OK
+
+
+def _trim_json(design, r, written: str | None) -> None:
+    sys.stdout.write(fileio.json_text({
+        "design": design.name,
+        "targets": [{"band": t.band.name, "frequency_hz": t.frequency_hz, "how": t.how}
+                    for t in r.targets],
+        "before": [dataclasses.asdict(b) for b in r.before],
+        "steps": [{"path": s.path, "old": s.old, "new": s.new, "instruction": s.text,
+                   "bands": [dataclasses.asdict(b) for b in s.bands],
+                   "pushed_out": s.pushed_out} for s in r.steps],
+        "reached_hz": r.reached, "unreachable": r.unreachable, "warnings": r.warnings,
+        "solves": r.solves, "files": {"trimmed_design": written}}))
+
+
+def _trim_text(design, r, written: str | None) -> None:
     print(f"{design.name}: targets " + ", ".join(
         f"{t.band.name} {t.frequency_hz / 1e6:.4g} MHz" + (" (centre)" if t.how == "centre"
                                                            else "") for t in r.targets))
@@ -173,28 +226,31 @@ def cmd_trim(args) -> int:
                   f"{100 * (f / t.frequency_hz - 1):+.2f} % from the target")
     for w in r.warnings:
         print(f"warning: {w}")
-    if args.write:
-        fileio.write_text(args.write, resolved_yaml(r.design))
-        print(f"trimmed design: {args.write}")
-    if r.targets and all(t.band.name in r.unreachable for t in r.targets):
-        raise GoalNotMet("no targeted band was reached ("
-                         + ", ".join(t.band.name for t in r.targets) + "); see 'cannot reach' "
-                         "above for why")
-    return OK
+    if written:
+        print(f"trimmed design: {written}")
 
 
 def cmd_tolerance(args) -> int:
-
+    steps = steps_of(args, "tolerance", sys.stderr)
+    steps.note(f"reading {args.design}")
     design = load_design(args.design)
     if args.samples is not None and not 1 <= args.samples <= MAX_SAMPLES:
         raise ConfigError(f"give 1 to {MAX_SAMPLES:,} cases, got {args.samples}",
                           field="--samples")
     _seed(args.seed)
-    r = monte_carlo(design, samples=args.samples, seed=args.seed)
+    r = monte_carlo(design, samples=args.samples, seed=args.seed, on_step=steps)
+    if args.plot:
+        steps(0, None, f"plotting {args.plot}")
+        fileio.save_figure(tolerance_figure(r, title=f"{design.name}: tolerance, "
+                                            f"{r.swr.shape[0]} cases, seed {r.seed}"),
+                           args.plot, dpi=110)
+    steps.close()
     rows = r.band_table()
     if args.json:
-        print(json.dumps({"seed": r.seed, "cases": int(r.swr.shape[0]),
-                          "geometry_states": r.states, "bands": rows}, indent=1))
+        sys.stdout.write(fileio.json_text({
+            "design": design.name, "seed": r.seed, "cases": int(r.swr.shape[0]),
+            "geometry_states": r.states, "swr_limit": r.swr_limit, "bands": rows,
+            "files": {"plot": args.plot}}))
     else:
         print(f"{design.name}: {r.swr.shape[0]} cases, seed {r.seed}, {r.states} geometry "
               f"states solved, SWR limit {r.swr_limit:g}")
@@ -206,10 +262,6 @@ def cmd_tolerance(args) -> int:
                   f"{x['swr_max_p95']:11.2f}")
         print("yield: share of cases within the SWR limit across the whole band; within: "
               "mean share of the band's points within it")
-    if args.plot:
-        fileio.save_figure(tolerance_figure(r, title=f"{design.name}: tolerance, "
-                                            f"{r.swr.shape[0]} cases, seed {r.seed}"),
-                           args.plot, dpi=110)
-        if not args.json:
-            print(f"plot: {args.plot}")
+    if args.plot and not args.json:
+        print(f"plot: {args.plot}")
     return OK

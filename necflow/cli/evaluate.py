@@ -2,16 +2,19 @@
 
 from __future__ import annotations
 
-import json
+import dataclasses
 import sys
+import warnings
 from pathlib import Path
 
 from rich.console import Console
 
+from necflow import fileio
 from necflow.chain import Chain, load_design, report_data
 from necflow.chain.convergence import check_convergence
+from necflow.cli.progress import steps_of
 from necflow.cli.status import NOT_MET, OK
-from necflow.errors import ConfigError, RulesBroken
+from necflow.errors import ConfigError, NecflowWarning, RulesBroken
 from necflow.model import summarize
 from necflow.report import run_folder
 from necflow.report.results import write_json
@@ -28,10 +31,20 @@ def _finding_line(fd) -> str:
 
 
 def cmd_check(args) -> int:
+    steps = steps_of(args, "check", sys.stderr)
+    steps.note(f"reading {args.design}")
     design = load_design(args.design)
     chain = Chain(design)
     summary = summarize(chain.wire_model, design, chain.f_min, chain.f_max)
     findings = chain.findings
+    broken = any(fd.severity == "error" for fd in findings)
+    report = None
+    if not args.no_convergence and not broken:
+        steps(0, None, "convergence check (the top of each band with twice the segments)")
+        report = _convergence(design)
+    steps.close()
+    if args.json:
+        return _check_json(args, design, summary, findings, broken, report)
     print(f"{args.design}: design '{design.name}' is valid.")
     for line in summary.format():
         print(line)
@@ -39,27 +52,53 @@ def cmd_check(args) -> int:
         print("Modelling rules: all satisfied.")
     for fd in findings:
         print(_finding_line(fd))
-    broken = any(fd.severity == "error" for fd in findings)
     if not args.no_convergence:
         if broken:
             print("Convergence check skipped: the model breaks a modelling rule.")
+        elif isinstance(report, str):
+            print(f"Convergence check skipped: {report}")
         else:
-            _print_convergence(design)
+            for line in report.format():
+                print(line)
+            for c in report.cautions:
+                print(f"caution: {c}")
     return _rule_status(findings, print)
 
 
-def _print_convergence(design) -> None:
+def _finding_dict(fd) -> dict:
+    return {"severity": fd.severity, "rule": fd.rule, "wire": getattr(fd, "wire", None),
+            "message": fd.message}
+
+
+def _check_json(args, design, summary, findings, broken, report) -> int:
+    """``check --json``: the model summary, the findings, the convergence
+    check and the exit status, as one document."""
+    model = dataclasses.asdict(summary)
+    model.pop("findings", None)                 # given once, below
+    if args.no_convergence:
+        convergence = {"skipped": "--no-convergence"}
+    elif broken:
+        convergence = {"skipped": "the model breaks a modelling rule"}
+    elif isinstance(report, str):
+        convergence = {"skipped": report}
+    else:
+        convergence = report.to_dict()
+    status = _rule_status(findings, lambda text: print(text, file=sys.stderr))
+    sys.stdout.write(fileio.json_text({
+        "design": str(args.design), "name": design.name, "valid": True, "model": model,
+        "findings": [_finding_dict(fd) for fd in findings], "convergence": convergence,
+        "status": status}))
+    return status
+
+
+def _convergence(design):
+    """The convergence check's report, or why it was skipped (text)."""
     try:
-        report = check_convergence(design)
+        return check_convergence(design)
     except ConfigError as exc:
         if exc.field != "model.max_segments":
             raise
-        print(f"Convergence check skipped: {exc.message}")
-        return
-    for line in report.format():
-        print(line)
-    for c in report.cautions:
-        print(f"caution: {c}")
+        return exc.message
 
 
 def _rule_status(findings, say) -> int:
@@ -73,39 +112,57 @@ def _rule_status(findings, say) -> int:
     return OK
 
 
+def _check_out(out: Path) -> None:
+    """Refuse a run folder that cannot be made (a file in its way) before
+    anything is solved."""
+    for p in (out, *out.parents):
+        if p.exists():
+            if not p.is_dir():
+                raise ConfigError(f"cannot create the run folder {out}: '{p}' is a file",
+                                  field="--out")
+            return
+
+
 def cmd_evaluate(args) -> int:
     started = run_folder.now_utc()
+    steps = steps_of(args, "evaluate", sys.stderr)
+    steps.note(f"reading {args.design}")
+    study, option = compare_study(args)
     design = load_design(args.design)
-    if args.study is not None and not (Path(args.study) / "best.yaml").is_file():
-        raise ConfigError(f"'{args.study}' is not a study's run folder (it holds no best.yaml); "
-                          "expected the --out folder of 'necflow optimize'", field="--study")
+    if study is not None and not (Path(study) / "best.yaml").is_file():
+        raise ConfigError(f"'{study}' is not a study's run folder (it holds no best.yaml); "
+                          "expected the --out folder of 'necflow optimize'", field=option)
     chain = Chain(design)
     try:
         chain.require_sound_model()
     except RulesBroken as exc:
         for fd in exc.findings:
             if fd.severity == "error":
-                print(_finding_line(fd))
+                print(_finding_line(fd), file=sys.stderr if args.json else sys.stdout)
         raise
-    evaluation = chain.evaluation
     out = Path(args.out) if args.out else run_folder.default_run_dir(design.name)
-    report_doc = report_data(chain, study_dir=args.study)
+    _check_out(out)
+    chain.solve(steps)
+    evaluation = chain.evaluation
+    report_doc = report_data(chain, study_dir=study, on_step=steps)
+    steps(0, None, "writing the run folder (tables, plots, report)")
     doc = run_folder.write_run_folder(evaluation, report_doc, out,
                                       config_path=str(args.design), started=started,
                                       argv=["necflow", *sys.argv[1:]])
     convergence = None
     if args.convergence:
-        try:
-            convergence = check_convergence(design)
+        steps(0, None, "convergence check (the top of each band with twice the segments)")
+        report = _convergence(design)
+        if isinstance(report, str):
+            doc["convergence"] = {"skipped": report}
+        else:
+            convergence = report
             doc["convergence"] = convergence.to_dict()
-        except ConfigError as exc:
-            if exc.field != "model.max_segments":
-                raise
-            doc["convergence"] = {"skipped": exc.message}
         write_json(doc, out / "results.json")
+    steps.close()
     if args.json:
-        json.dump(doc, sys.stdout, indent=1)
-        print()
+        sys.stdout.write(fileio.json_text({**doc, "run_folder": str(out),
+                                           "report": str(out / "report.html")}))
         return OK
     console = Console(width=120, highlight=False)
     for fd in evaluation.findings:
@@ -135,4 +192,20 @@ def cmd_evaluate(args) -> int:
     if evaluation.cautions:
         console.print(SAFETY_LINE)
     console.print(f"run folder: {out}")
+    console.print(f"report: {out / 'report.html'}")
     return OK
+
+
+def compare_study(args) -> tuple[str | None, str]:
+    """The study folder to compare with and the option that named it
+    (``--study``, the old spelling, still works, with a warning)."""
+    old = getattr(args, "study_folder", None)
+    new = getattr(args, "compare_study", None)
+    if old is not None and new is not None:
+        raise ConfigError("give the study folder once, as --compare-study DIR",
+                          field="--study")
+    if old is not None:
+        warnings.warn("--study DIR is deprecated in 'evaluate' (in 'optimize' --study is a "
+                      "study's name); write --compare-study DIR", NecflowWarning, stacklevel=2)
+        return old, "--study"
+    return new, "--compare-study"

@@ -7,6 +7,7 @@ The options are checked here and become a
 
 from __future__ import annotations
 
+import dataclasses
 import os
 import re
 import sys
@@ -17,6 +18,7 @@ from typing import TextIO
 import optuna
 from rich.console import Console
 
+from necflow import fileio
 from necflow.chain import evaluate
 from necflow.cli.progress import StudyProgress
 from necflow.cli.status import INTERRUPTED, OK, TERMINATED
@@ -29,6 +31,7 @@ from necflow.optimize.problem.space import load_study_design
 from necflow.optimize.storage.backends import check_storage_url, storage_password
 from necflow.optimize.strategy.study import (
     StudyOptions,
+    counted_trials,
     parse_duration,
     resolve_method,
     run_study,
@@ -129,13 +132,39 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
             _print_split(split, say)
             why = split.stopped
         else:
-            progress = StudyProgress(err, opts.trials, opts.timeout_s, live=err.isatty())
+            progress = StudyProgress(err, opts.trials, opts.timeout_s, live=err.isatty(),
+                                     count=lambda s: len(counted_trials(s)))
             try:
                 study, why = run_study(design, space, opts, solver=solver, on_trial=progress)
             finally:
                 progress.close()
     outcome = run.finish_search(study, design, space, opts, shown, solver=solver)
     result, first = outcome.outputs, outcome.start
+    files = {"run_folder": str(opts.out), "best_yaml": str(opts.out / "best.yaml"),
+             "leaderboard_csv": str(opts.out / "leaderboard.csv"),
+             "best_bands": str(opts.out / "best-bands.txt"),
+             "best_run_folder": str(opts.out / "best")}
+    if getattr(args, "json", False):
+        before = None if args.report_only else evaluate(design, solver=solver)
+        out.write(fileio.json_text({
+            "study": opts.study_name, "storage": shown, "stopped": why,
+            "trials": {"counted": outcome.counted, "complete": outcome.complete,
+                       "failed": outcome.failed},
+            "start": None if first is None else {"trial": first.number,
+                                                 "objective": list(first.values)},
+            "best": {"trial": result.best_trial.number, "values": result.values,
+                     "values_text": {p.path: p.text(result.values[p.path])
+                                     for p in space.params if p.path in result.values},
+                     "objective": list(result.objective),
+                     "objective_unrounded": list(result.best_trial.values),
+                     "bands": [dataclasses.asdict(b)
+                               for b in result.evaluation.band_summaries()]},
+            "before": None if before is None else {
+                "bands": [dataclasses.asdict(b) for b in before.band_summaries()]},
+            "files": files}))
+        run.write_search_manifest(args.design, opts, shown, outcome, stopped=why,
+                                  started=started, argv=["necflow", *sys.argv[1:]])
+        return {"stopped by SIGINT": INTERRUPTED, "stopped by SIGTERM": TERMINATED}.get(why, OK)
     console = Console(file=out, width=120, highlight=False, color_system=None)
     console.print(f"study '{opts.study_name}': {outcome.counted} trial(s) counted "
                   f"({outcome.complete} complete, {outcome.failed} failed); "

@@ -6,6 +6,9 @@ module only when the command runs.
 
 from __future__ import annotations
 
+JSON_HELP = ("print the results as one JSON document on stdout, nothing else (progress and "
+             "warnings go to stderr); it names every file written")
+
 
 def add_evaluate_parsers(sub) -> None:
     """Add ``check`` and ``evaluate`` to the command's sub-parsers."""
@@ -14,15 +17,20 @@ def add_evaluate_parsers(sub) -> None:
     c.add_argument("design", help="design file (YAML)")
     c.add_argument("--no-convergence", action="store_true",
                    help="skip the convergence check (it solves the top of each band twice)")
+    c.add_argument("--json", action="store_true", help=JSON_HELP)
     c.set_defaults(handler="necflow.cli.evaluate:cmd_check")
 
     e = sub.add_parser("evaluate", help="solve a design and write its run folder")
     e.add_argument("design", help="design file (YAML)")
     e.add_argument("--out", metavar="DIR", help="run folder (default runs/<name>-<timestamp>)")
     e.add_argument("--json", action="store_true",
-                   help="print results.json to stdout instead of the table")
-    e.add_argument("--study", metavar="DIR", help="a study's run folder: show its best "
-                   "design as the 'optimised' alternative in the report")
+                   help="print results.json (with the paths written) to stdout instead of "
+                   "the table")
+    e.add_argument("--compare-study", metavar="DIR", help="a study's run folder: show its "
+                   "best design as the 'optimised' alternative in the report")
+    e.add_argument("--study", metavar="DIR", dest="study_folder",
+                   help="deprecated spelling of --compare-study (--study names a study in "
+                   "'optimize')")
     e.add_argument("--convergence", action="store_true",
                    help="also solve the top of each band with the segments doubled and "
                    "store the change in results.json ('convergence')")
@@ -33,6 +41,7 @@ def add_report_parsers(sub) -> None:
     """Add ``report`` to the command's sub-parsers."""
     r = sub.add_parser("report", help="rebuild report.html of a run folder (no solve)")
     r.add_argument("run_dir", metavar="RUN_DIR", help="run folder written by evaluate")
+    r.add_argument("--json", action="store_true", help=JSON_HELP)
     r.set_defaults(handler="necflow.cli.report:cmd_report")
 
 
@@ -69,13 +78,15 @@ def add_optimize_parsers(sub) -> None:
                    "parameter; split: geometry grid screened, leaders confirmed")
     o.add_argument("--no-cache", action="store_true", help="keep no solves on disk "
                    "(default: <run folder>/solves.sqlite, shared by workers and resumes)")
+    o.add_argument("--json", action="store_true", help=JSON_HELP)
     o.set_defaults(handler="necflow.cli.optimize:cmd_optimize")
 
 
 def add_batch_parsers(sub) -> None:
     """Add ``batch`` to the command's sub-parsers."""
     b = sub.add_parser("batch", help="evaluate or optimise a matrix of variants of a design")
-    b.add_argument("study", help="batch file (YAML): base design, matrix of overrides, mode")
+    b.add_argument("batch_file", metavar="BATCH",
+                   help="batch file (YAML): base design, matrix of overrides, mode")
     b.add_argument("--workers", type=int, default=1, metavar="N",
                    help="cells run in parallel (default 1; at most 4 per core unless "
                    "--force-workers)")
@@ -83,6 +94,7 @@ def add_batch_parsers(sub) -> None:
                    help="allow more than 4 workers per core")
     b.add_argument("--storage", metavar="URL", help="shared storage for optimised cells")
     b.add_argument("--out", metavar="DIR", help="batch folder (default runs/<batch>-batch)")
+    b.add_argument("--json", action="store_true", help=JSON_HELP)
     b.set_defaults(handler="necflow.cli.batch:cmd_batch")
 
 
@@ -104,6 +116,7 @@ def add_calibrate_parsers(sub) -> None:
     f.add_argument("--starts", type=int, default=4, metavar="N", help="starting points (default 4)")
     f.add_argument("--seed", type=int, default=0, metavar="N", help="seed of the starts")
     f.add_argument("--out", metavar="DIR", help="output folder (default runs/<name>-fit)")
+    f.add_argument("--json", action="store_true", help=JSON_HELP)
     f.set_defaults(handler="necflow.cli.calibrate:cmd_fit")
 
     t = sub.add_parser("trim", help="advise cuts and part changes that put the lowest SWR "
@@ -116,6 +129,7 @@ def add_calibrate_parsers(sub) -> None:
                    "'adjustable' section)")
     t.add_argument("--seed", type=int, default=0, metavar="N", help="seed of extra starts")
     t.add_argument("--write", metavar="FILE", help="write the trimmed design here")
+    t.add_argument("--json", action="store_true", help=JSON_HELP)
     t.set_defaults(handler="necflow.cli.calibrate:cmd_trim")
 
     m = sub.add_parser("tolerance", help="Monte Carlo over the design's stated tolerances: "
@@ -124,5 +138,31 @@ def add_calibrate_parsers(sub) -> None:
     m.add_argument("--samples", type=int, metavar="N", help="cases (default tolerances.samples)")
     m.add_argument("--seed", type=int, metavar="N", help="seed (default tolerances.seed)")
     m.add_argument("--plot", metavar="PNG", help="write the SWR-spread plot here")
-    m.add_argument("--json", action="store_true", help="print the band table as JSON")
+    m.add_argument("--json", action="store_true", help=JSON_HELP)
     m.set_defaults(handler="necflow.cli.calibrate:cmd_tolerance")
+
+
+def add_start_parsers(sub) -> None:
+    """Add ``new`` and ``schema`` to the command's sub-parsers."""
+    # the starter names, without importing the module that writes them
+    shapes = ("doublet", "inverted-v", "end-fed", "off-centre", "wires")
+    n = sub.add_parser("new", help="write a commented starter design (or a shipped example) "
+                       "to start from")
+    n.add_argument("shape", nargs="?", choices=shapes, metavar="SHAPE",
+                   help=f"the starter: {', '.join(shapes)}")
+    n.add_argument("--bands", nargs="+", metavar="BAND", help="bands of the starter, e.g. "
+                   "'80m 40m 20m' or 80m,40m (the lengths scale with the lowest)")
+    n.add_argument("--region", type=int, default=2, choices=(1, 2, 3),
+                   help="ITU region of the band table (default 2)")
+    n.add_argument("--example", metavar="NAME", help="write a shipped example design "
+                   "instead (see --list)")
+    n.add_argument("--list", action="store_true", help="list the starters and the examples")
+    n.add_argument("--out", metavar="FILE", help="write here instead of to stdout (an "
+                   "existing file is not replaced)")
+    n.set_defaults(handler="necflow.cli.start:cmd_new")
+
+    s = sub.add_parser("schema", help="write the JSON Schema of the design file, for "
+                       "editors (the starters' first line points to "
+                       "necflow-design.schema.json)")
+    s.add_argument("--out", metavar="FILE", help="write here instead of to stdout")
+    s.set_defaults(handler="necflow.cli.start:cmd_schema")

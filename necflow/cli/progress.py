@@ -1,19 +1,32 @@
-"""Progress of a study: a live line on a terminal, plain log lines otherwise.
+"""Progress of a command: rich's display on a terminal, plain lines otherwise.
 
-The reporter writes to the stream it is given (``necflow optimize`` passes
-stderr); the study runner calls it after each trial and never prints.
+:class:`StudyProgress` follows a study (``necflow optimize``); :class:`Steps`
+follows the steps of every other long command (evaluate, fit, trim,
+tolerance, batch, report, check).  Both write to the stream they are given
+(the commands pass stderr, so that stdout holds the results alone); the jobs
+call them and never print.
+
+A job reports a step as ``on_step(done, total, text)``: ``done`` of ``total``
+steps of the current phase are finished (``total`` None when the count is
+not known in advance, as for a search's model evaluations) and ``text`` is
+the work now under way.  The call comes before the work, so the display
+names what the command is waiting for.
 """
 
 from __future__ import annotations
 
 import time
+from collections.abc import Callable
 from datetime import timedelta
 from typing import TextIO
 
 from rich.console import Console
 from rich.live import Live
+from rich.progress import BarColumn, Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 
-from necflow.optimize.strategy.study import counted_trials
+#: Plain lines: steps of unknown count print at most once per this many
+#: seconds (a long search stays visibly alive without a line per evaluation).
+HEARTBEAT_S = 10.0
 
 
 def _hms(seconds: float | None) -> str:
@@ -45,11 +58,14 @@ class StudyProgress:
     timeout_s : float or None
     live : bool
         A rich live display (for terminals) instead of log lines.
+    count : callable
+        ``count(study)``: the trials that count toward the budget.
     """
 
     def __init__(self, stream: TextIO, total: int | None, timeout_s: float | None,
-                 live: bool = False):
+                 live: bool = False, *, count: Callable[[object], int]):
         self.stream, self.total, self.timeout_s = stream, total, timeout_s
+        self.count = count
         self.t0 = time.time()
         self.done_here = 0
         self._live = None
@@ -59,8 +75,7 @@ class StudyProgress:
             self._live.start()
 
     def line(self, study) -> str:
-        counted = counted_trials(study)
-        done = len(counted)
+        done = self.count(study)
         elapsed = time.time() - self.t0
         best = None
         try:
@@ -91,3 +106,78 @@ class StudyProgress:
         if self._live is not None:
             self._live.stop()
             self._live = None
+
+
+def step_text(done: int, total: int | None, text: str) -> str:
+    """One step as a line: ``solving 40m [2/5]``, or with an unknown count
+    ``searching antenna.span: 14 evaluations``."""
+    if total:
+        return f"{text} [{min(done + 1, total)}/{total}]"
+    return f"{text}: {done} evaluation{'s' if done != 1 else ''}" if done else text
+
+
+class Steps:
+    """The steps of one command, as jobs report them (``on_step``).
+
+    On a terminal: rich's progress display (spinner, the step, a bar,
+    elapsed time), shown from the moment it is made and gone when closed, so
+    that the results print on a clean screen.  Otherwise one flushed line per
+    step, ``necflow: COMMAND: STEP``: every counted step, every change of
+    phase, and steps of unknown count at most once per :data:`HEARTBEAT_S`.
+
+    Parameters
+    ----------
+    command : str
+        The command's name, shown before each step.
+    stream : text stream
+        Where to write (the commands pass stderr).
+    live : bool, optional
+        Force the display (True) or plain lines (False); default: the display
+        when ``stream`` is a terminal.
+    """
+
+    def __init__(self, command: str, stream: TextIO, live: bool | None = None):
+        self.command, self.stream = command, stream
+        self.live = stream.isatty() if live is None else live
+        self._last_text: str | None = None
+        self._last_line = 0.0
+        self._progress: Progress | None = None
+        if self.live:
+            self._progress = Progress(
+                SpinnerColumn(), TextColumn(f"{command}:"),
+                TextColumn("{task.description}", markup=False), BarColumn(),
+                TimeElapsedColumn(), console=Console(file=stream), transient=True,
+                refresh_per_second=8)
+            self._task = self._progress.add_task("loading", total=None)
+            self._progress.start()
+
+    def __call__(self, done: int, total: int | None, text: str) -> None:
+        line = step_text(done, total, text)
+        if self._progress is not None:
+            self._progress.update(self._task, description=line, completed=done, total=total,
+                                  refresh=True)
+            return
+        now = time.monotonic()
+        if total or text != self._last_text or now - self._last_line >= HEARTBEAT_S:
+            print(f"necflow: {self.command}: {line}", file=self.stream, flush=True)
+            self._last_line = now
+        self._last_text = text
+
+    def note(self, text: str) -> None:
+        """A short preparatory step (reading the design): shown on the
+        display, no plain line (so an input error stays the only line)."""
+        if self._progress is not None:
+            self._progress.update(self._task, description=text, refresh=True)
+
+    def close(self) -> None:
+        """Remove the display (idempotent)."""
+        if self._progress is not None:
+            self._progress.stop()
+            self._progress = None
+
+
+def steps_of(args, command: str, stream: TextIO) -> Steps:
+    """The command's :class:`Steps`: the one :func:`necflow.cli.main` started
+    (``args.progress``, shown while the command's modules load), or a new one."""
+    made = getattr(args, "progress", None)
+    return made if made is not None else Steps(command, stream)

@@ -29,7 +29,7 @@ from pydantic import BaseModel, ValidationError
 from necflow import units
 from necflow.catalog.grounds import SURFACES
 from necflow.catalog.lines import LINE_TYPES
-from necflow.config.schema import PART_KINDS, Design, Ground, PartElement
+from necflow.config.schema import PART_KINDS, Design, Ground, PartElement, SwitchSpec
 from necflow.config.sections import SearchParam
 from necflow.errors import ConfigError
 
@@ -255,10 +255,14 @@ def locate(design: Design, path: str) -> tuple[BaseModel, str]:
         rest = parts
     for name in rest[:-1]:
         child = getattr(owner, name, None) if name in type(owner).model_fields else None
+        if name == "switch" and child is None and "switch" in type(owner).model_fields:
+            child = SwitchSpec()        # an element without a switch: in on every band
         if not isinstance(child, BaseModel):
             raise ValueError(f"'{path}': '{name}' is not a group of fields here")
         owner = child
     name = rest[-1]
+    if isinstance(owner, SwitchSpec) and name not in type(owner).model_fields:
+        return owner, name              # a band's state: feed.<id>.switch.<band>
     if name not in type(owner).model_fields:
         raise ValueError(f"'{path}': this {type(owner).__name__} has no field '{name}'; "
                          f"its fields are {', '.join(type(owner).model_fields)}")
@@ -317,6 +321,13 @@ def param(design: Design, path: str, spec: SearchParam) -> Param:
     """
     owner, name = locate(design, path)
     geometry = moves_wires(design, path)
+    if isinstance(owner, SwitchSpec) and name not in type(owner).model_fields:
+        if name not in [b.name for b in design.bands]:
+            raise ValueError(f"'{name}' is not one of the design's bands")
+        if spec.choices is None or not set(spec.choices) <= {"in", "out"} \
+                or len(set(spec.choices)) != len(spec.choices):
+            raise ValueError("a switch state is searched over 'choices' of in and out")
+        return Param(path, None, choices=tuple(spec.choices), geometry=False)
     if name == "line" and path.startswith("feed."):
         if spec.choices is None:
             raise ValueError("a line type is searched over 'choices' of catalog names")
@@ -421,6 +432,8 @@ def current_value(design: Design, path: str) -> Any:
     """The value of the field at ``path`` (SI), ground surfaces resolved and a
     catalog line's nominal velocity factor or impedance filled in."""
     owner, name = locate(ground_explicit(design), path)
+    if isinstance(owner, SwitchSpec) and name not in type(owner).model_fields:
+        return "out" if owner.is_out(name) else "in"
     value = getattr(owner, name)
     if value is None and name in ("velocity_factor", "impedance") and hasattr(owner, "line"):
         lt = LINE_TYPES.get(owner.line)
@@ -455,6 +468,15 @@ def apply(design: Design, values: dict[str, Any], *, keep_search: bool = False) 
             raise ConfigError(str(exc), field=path) from None
         if isinstance(value, np.generic):
             value = value.item()
+        if isinstance(owner, SwitchSpec) and name not in type(owner).model_fields:
+            el = locate(out, path.rsplit(".", 2)[0] + ".id")[0]
+            if el.switch is None:
+                el.switch = SwitchSpec()
+            try:
+                el.switch.set_state(name, value)
+            except ValueError as exc:
+                raise ConfigError(str(exc), field=path) from None
+            continue
         try:
             setattr(owner, name, value)
         except ValidationError as exc:

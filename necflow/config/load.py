@@ -384,8 +384,9 @@ def validate_design_file(path: str | os.PathLike) -> tuple[Design, Lines]:
     Raises
     ------
     ConfigError
-        One error, the most useful one, as ``FILE:LINE: field: message``;
-        the message adds ``(and N more problems)`` when there are several.
+        The most useful problem as ``FILE:LINE: field: message``, carrying
+        every other problem of the file in ``others`` (its text adds
+        ``(and N more problems)``; ``lines()`` gives one line each).
     """
     return validate_design_text(read_design_text(path), file=os.fspath(path))
 
@@ -403,6 +404,8 @@ def validate_design_text(text: str, file: str = "<string>") -> tuple[Design, Lin
         design = Design.model_validate(data, context={"from_file": True})
     except ValidationError as exc:
         problems = translate(exc, data)
+        seen = {path for _, path in problems}
+        problems += [p for p in _raw_name_problems(data) if p[1] not in seen]
         raise first_error(problems, file, lines) from None
     problems = _semantic_problems(design)
     if problems:
@@ -421,6 +424,61 @@ def at_field(exc: ConfigError | ModelError, file: str, lines: Lines) -> ConfigEr
 # Checks after validation
 
 
+def _raw_name_problems(data: dict) -> list[tuple[str, tuple | None]]:
+    """The catalog names of a design that did not validate: bands, line
+    types and the ground surface, read from the raw data so that they are
+    reported with the schema's problems instead of after their fix."""
+    out: list[tuple[str, tuple | None]] = []
+    region = data.get("region", 2)
+    bands = data.get("bands")
+    if region in TABLES and isinstance(bands, list):
+        for i, b in enumerate(bands):
+            if isinstance(b, str) and b not in TABLES[region].edges:
+                out.append((unknown_band_message(b, region), ("bands", i)))
+    feed = data.get("feed")
+    for i, e in enumerate(feed if isinstance(feed, list) else []):
+        line = e.get("line") if isinstance(e, dict) else None
+        if isinstance(line, str) and line != "custom" and line not in LINE_TYPES:
+            out.append((_unknown_line(line), ("feed", i, "line")))
+    ground = data.get("ground")
+    s = ground.get("surface") if isinstance(ground, dict) else None
+    if isinstance(s, str) and s not in SURFACES:
+        out.append((_unknown_surface(s), ("ground", "surface")))
+    return out
+
+
+#: Words builders use for the catalog's ground surfaces (ITU-R P.527 names
+#: them by wetness; "poor", "average" and "good" ground are common practice
+#: for the same range, low to high conductivity).
+SURFACE_WORDS = {
+    "average": "medium-dry", "medium": "medium-dry", "normal": "medium-dry",
+    "typical": "medium-dry", "average ground": "medium-dry", "dry": "very-dry",
+    "poor": "very-dry", "sandy": "very-dry", "rocky": "very-dry", "urban": "very-dry",
+    "city": "very-dry", "good": "wet", "moist": "wet", "damp": "wet", "marsh": "wet",
+    "sea": "sea-water", "salt water": "sea-water", "ocean": "sea-water",
+    "fresh": "fresh-water", "lake": "fresh-water", "river": "fresh-water",
+}
+
+#: Words builders use for the catalog's line types.
+LINE_WORDS = {
+    "window": "window-450", "window line": "window-450", "ladder": "window-450",
+    "ladder line": "window-450", "450 ohm": "window-450", "450": "window-450",
+    "twin lead": "twin-lead-300", "twinlead": "twin-lead-300", "ribbon": "twin-lead-300",
+    "300 ohm": "twin-lead-300", "open wire": "open-wire-600", "600 ohm": "open-wire-600",
+    "feeder": "open-wire-600", "coax": "rg-213", "rg-8": "rg-8-foam",
+}
+
+
+def _unknown_line(line: str) -> str:
+    return (f"unknown line type '{line}'; {did_you_mean(line, LINE_TYPES, LINE_WORDS)}"
+            f"expected one of {', '.join(LINE_TYPES)}, or 'custom'")
+
+
+def _unknown_surface(s: str) -> str:
+    return (f"unknown ground surface '{s}'; {did_you_mean(s, SURFACES, SURFACE_WORDS)}"
+            f"expected one of {', '.join(SURFACES)}, or give permittivity and conductivity")
+
+
 def _semantic_problems(design: Design) -> list[tuple[str, tuple | None]]:
     """Names that must exist in the catalogs (bands, line types, chokes,
     surfaces), lines that lose more than anything could pass, and measured
@@ -432,13 +490,12 @@ def _semantic_problems(design: Design) -> list[tuple[str, tuple | None]]:
     for i, e in enumerate(design.feed):
         line = getattr(e, "line", None)
         if line is not None and line != "custom" and line not in LINE_TYPES:
-            out.append((f"unknown line type '{line}'; {did_you_mean(line, LINE_TYPES)}expected "
-                        f"one of {', '.join(LINE_TYPES)}, or 'custom'", ("feed", i, "line")))
+            out.append((_unknown_line(line), ("feed", i, "line")))
     remote = design.report.tuner.remote_line
     if remote is not None and (remote not in LINE_TYPES or LINE_TYPES[remote].balanced):
         coax = [k for k, v in LINE_TYPES.items() if not v.balanced]
         out.append((f"'{remote}' is not an unbalanced catalog line; "
-                    f"{did_you_mean(remote, coax)}expected one of {', '.join(coax)}",
+                    f"{did_you_mean(remote, coax, LINE_WORDS)}expected one of {', '.join(coax)}",
                     ("report", "tuner", "remote_line")))
     for path, spec in _chokes(design):
         name = spec.catalog
@@ -450,9 +507,7 @@ def _semantic_problems(design: Design) -> list[tuple[str, tuple | None]]:
         out += _choke_span_problems(design)
     s = design.ground.surface
     if s is not None and s not in SURFACES:
-        out.append((f"unknown ground surface '{s}'; {did_you_mean(s, SURFACES)}expected one of "
-                    f"{', '.join(SURFACES)}, or give permittivity and conductivity",
-                    ("ground", "surface")))
+        out.append((_unknown_surface(s), ("ground", "surface")))
     return out
 
 

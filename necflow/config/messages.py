@@ -320,21 +320,50 @@ def translate(exc: ValidationError, data: Any) -> list[tuple[str, tuple | None]]
     return [(msg, path) for _, path, msg in out]
 
 
-def did_you_mean(word: Any, options) -> str:
+def _squash(word: Any) -> str:
+    """A name without case, spaces or punctuation: 'RG 213' and 'rg-213' meet."""
+    return re.sub(r"[^0-9a-z]", "", str(word).lower())
+
+
+def closest(word: Any, options, aliases: dict[str, str] | None = None) -> str | None:
+    """The option ``word`` most likely means, or None.
+
+    In turn: an alias (the words people use for a catalog entry, compared
+    squashed), an option equal but for case, spaces and punctuation, then
+    the closest spelling (difflib, case ignored).
+    """
+    options = [str(o) for o in options]
+    key = _squash(word)
+    for alias, target in (aliases or {}).items():
+        if _squash(alias) == key and target in options:
+            return target
+    for o in options:
+        if _squash(o) == key:
+            return o
+    lower = {o.lower(): o for o in options}
+    close = difflib.get_close_matches(str(word).lower(), list(lower), n=1)
+    return lower[close[0]] if close else None
+
+
+def did_you_mean(word: Any, options, aliases: dict[str, str] | None = None) -> str:
     """``"did you mean 'X'? "`` for the closest of ``options``, or ``""``."""
-    close = difflib.get_close_matches(str(word), list(options), n=1)
-    return f"did you mean '{close[0]}'? " if close else ""
+    close = closest(word, options, aliases)
+    return f"did you mean '{close}'? " if close else ""
 
 
 def first_error(problems: list[tuple[str, tuple | None]], file: str, lines: Lines) -> ConfigError:
-    """The first problem as a ConfigError, counting the others."""
+    """The first problem as a ConfigError that carries the others
+    (``others``: each a ConfigError at its own line and field)."""
+    def one(message: str, path: tuple | None) -> ConfigError:
+        return ConfigError(message, file=file, line=line_of(path, lines),
+                           field=path_text(path) if path else None)
     message, path = problems[0]
-    extra = len(problems) - 1
-    if extra:
-        message += f" (and {extra} more problem{'s' if extra > 1 else ''})"
-    return ConfigError(message, file=file, line=line_of(path, lines),
-                       field=path_text(path) if path else None)
+    first = one(message, path)
+    if len(problems) == 1:
+        return first
+    return ConfigError(message, file=file, line=first.line, field=first.field,
+                       others=tuple(one(m, p) for m, p in problems[1:]))
 
 
 __all__ = ["Lines", "path_text", "parse_path", "describe", "is_model", "union_tags",
-           "did_you_mean", "translate", "first_error"]
+           "closest", "did_you_mean", "translate", "first_error"]

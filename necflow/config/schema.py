@@ -97,6 +97,19 @@ Current = Annotated[float, BeforeValidator(_to_si("current"))]
 Angle = Annotated[float, BeforeValidator(_to_si("angle"))]
 
 
+def _to_diameter(v: Any, info: ValidationInfo) -> float:
+    """A wire's diameter: a length, or a gauge ('14 AWG', '1.5 mm2')."""
+    if _si_number(v, info):
+        return units.finite(float(v), "length")
+    try:
+        return units.parse_diameter(v)
+    except units.UnitError as exc:
+        raise ValueError(str(exc)) from None
+
+
+Diameter = Annotated[float, BeforeValidator(_to_diameter)]
+
+
 def _fraction_or_length(v: Any) -> float | tuple[str, float]:
     """A feed position: a plain fraction 0..1 of the wire, a percentage
     (``"33 %"``) or a distance from the wire's start (``"9 m"``)."""
@@ -188,8 +201,9 @@ WIRE_MATERIALS = ("copper", "hard-drawn-copper", "aluminium", "copper-clad-steel
 class WireSpec(Strict):
     """Conductor of the radiator."""
 
-    diameter: Length = quantity("length", default="2 mm", unit="mm", gt=0, le=1.0,
-                                description="Conductor diameter")
+    diameter: Diameter = quantity("length", default="2 mm", unit="mm", gt=0, le=1.0,
+                                  description="Conductor diameter, or its gauge ('14 AWG', "
+                                  "'1.5 mm2')")
     material: str = Field("copper", description="Conductor material, for conductor loss: "
                           + ", ".join(WIRE_MATERIALS))
 
@@ -471,8 +485,9 @@ class WireItem(Strict):
     start: Point = Field(..., description="Start point [x, y, z]",
                          json_schema_extra={"unit": "m"})
     end: Point = Field(..., description="End point [x, y, z]", json_schema_extra={"unit": "m"})
-    diameter: Length | None = quantity("length", default=None, unit="mm", gt=0, le=1.0,
-                                       description="Diameter (default: the list's 'wire.diameter')")
+    diameter: Diameter | None = quantity("length", default=None, unit="mm", gt=0, le=1.0,
+                                         description="Diameter or gauge (default: the list's "
+                                         "'wire.diameter')")
 
     @model_validator(mode="after")
     def _length(self) -> WireItem:
@@ -531,22 +546,35 @@ Antenna = Annotated[Doublet | OffCentre | InvertedV | WireList | Sloper | DeltaL
 # Ground
 
 GROUND_MODELS = ("free-space", "perfect", "reflection", "sommerfeld")
+#: The soil of a real-ground model that names none: the middle of the
+#: catalog's range (ITU-R P.527 medium dry ground).
+DEFAULT_SURFACE = "medium-dry"
 
 
 class Ground(Strict):
     """The ground under the antenna."""
 
     model: Literal["free-space", "perfect", "reflection", "sommerfeld"] = Field(
-        ..., description="free-space; perfect; reflection (reflection-coefficient "
+        "sommerfeld", description="free-space; perfect; reflection (reflection-coefficient "
         "approximation, for wires well above ground); sommerfeld (Sommerfeld-Norton, "
         "accurate near the ground)")
     surface: str | None = Field(None, description="Named surface from the ground catalog "
                                 "(ITU-R P.527), e.g. medium-dry; or give permittivity and "
-                                "conductivity")
+                                "conductivity (with neither: medium-dry)")
     permittivity: float | None = Field(None, ge=1, le=100, description="Relative permittivity "
                                        "of the soil (1 to 100; sea water is about 70-81)")
     conductivity: Conductivity | None = quantity("conductivity", default=None, gt=0, le=10.0,
                                                  description="Soil conductivity")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _default_soil(cls, data: Any) -> Any:
+        """A real-soil model with no soil given stands on DEFAULT_SURFACE."""
+        if isinstance(data, dict) and data.get("model", "sommerfeld") in ("reflection",
+                                                                          "sommerfeld") \
+                and not {"surface", "permittivity", "conductivity"} & data.keys():
+            return {**data, "surface": DEFAULT_SURFACE}
+        return data
 
     @model_validator(mode="after")
     def _constants(self) -> Ground:
@@ -593,6 +621,52 @@ class LossPoint(Strict):
         return self
 
 
+class SwitchSpec(Strict):
+    """A relay that takes an element out of the chain on some bands.
+
+    Out of circuit a series element (line, series part, transformer, tuner)
+    is bridged by the relay's closed contacts and a shunt part is
+    disconnected: the chain on that band is the chain without it.
+    """
+
+    bypass: list[str] = Field(default_factory=list, max_length=limits.MAX_BANDS,
+                              description="Bands on which the relay takes the element out of "
+                              "circuit (in circuit on the others)")
+    only: list[str] | None = Field(None, max_length=limits.MAX_BANDS,
+                                   description="Instead of bypass: the bands on which the "
+                                   "element is switched in (out of circuit on the others)")
+
+    @model_validator(mode="after")
+    def _one_form(self) -> SwitchSpec:
+        if self.only is not None and self.bypass:
+            raise ValueError("give 'bypass' or 'only', not both")
+        for name in ("bypass", "only"):
+            dup = _duplicates(getattr(self, name) or [])
+            if dup:
+                raise ValueError(f"{name}: band '{dup[0]}' is listed twice")
+        return self
+
+    def is_out(self, band: str) -> bool:
+        """True when the element is out of circuit on ``band``."""
+        return band not in self.only if self.only is not None else band in self.bypass
+
+    def bands_named(self) -> list[tuple[str, int, str]]:
+        """(key, index, band name) of every band the spec names."""
+        return [(k, i, b) for k in ("bypass", "only") for i, b in
+                enumerate(getattr(self, k) or [])]
+
+    def set_state(self, band: str, state: str) -> None:
+        """Set the state on one band: 'in' or 'out' (a search sets it)."""
+        if state not in ("in", "out"):
+            raise ValueError(f"a switch state is 'in' or 'out', not '{state}'")
+        if self.only is not None:
+            only = [b for b in self.only if b != band] + ([band] if state == "in" else [])
+            object.__setattr__(self, "only", only)
+        else:
+            out = [b for b in self.bypass if b != band] + ([band] if state == "out" else [])
+            object.__setattr__(self, "bypass", out)
+
+
 class LineElement(Strict):
     """A length of transmission line: from the catalog, or custom."""
 
@@ -614,6 +688,8 @@ class LineElement(Strict):
                                   "custom lines)")
     voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0, le=1e6,
                                               description="Peak voltage rating, for stress margins")
+    switch: SwitchSpec | None = Field(None, description="A relay that takes the element "
+                                      "out of circuit on some bands (see Band-switched feeds)")
 
     @model_validator(mode="after")
     def _custom(self) -> LineElement:
@@ -720,6 +796,8 @@ class PartElement(Strict):
                                               description="RMS current rating")
     power_rating: Power | None = quantity("power", default=None, gt=0, le=1e6,
                                           description="Dissipation rating")
+    switch: SwitchSpec | None = Field(None, description="A relay that takes the element "
+                                      "out of circuit on some bands (see Band-switched feeds)")
 
     @model_validator(mode="before")
     @classmethod
@@ -831,6 +909,8 @@ class TransformerElement(Strict):
         None, description="Common-mode impedance of the balun (or of a choke built into the "
         "transformer), used when the feed line is modelled as a conductor (default: the "
         "catalog's current-balun for a current balun, none otherwise)")
+    switch: SwitchSpec | None = Field(None, description="A relay that takes the element "
+                                      "out of circuit on some bands (see Band-switched feeds)")
 
     @property
     def effective_balun_kind(self) -> str | None:
@@ -861,11 +941,157 @@ class ChokeElement(Strict):
     power_rating: Power | None = quantity("power", default=None, gt=0, le=1e6,
                                           description="Power rating, compared with the power "
                                           "passing through (as for a transformer)")
+    switch: SwitchSpec | None = Field(None, description="A relay that takes the element "
+                                      "out of circuit on some bands (see Band-switched feeds)")
+
+
+# Band-switched states and matching networks (tuners)
+
+
+class CapacitorSpec(Strict):
+    """A tuner's capacitor: a variable range or one fixed value."""
+
+    min: Capacitance | None = quantity("capacitance", default=None, gt=0, le=100e-9,
+                                       unit="pF", description="Smallest setting (a variable "
+                                       "capacitor never reaches 0 pF; typically 10-30 pF)")
+    max: Capacitance | None = quantity("capacitance", default=None, gt=0, le=100e-9,
+                                       unit="pF", description="Largest setting")
+    value: Capacitance | None = quantity("capacitance", default=None, gt=0, le=100e-9,
+                                         unit="pF", description="A fixed capacitor instead "
+                                         "of min and max")
+    q: float = Field(1000.0, gt=0, le=1e6, description="Unloaded Q at the reference frequency")
+    q_exponent: float = Field(0.0, ge=-2, le=2, description="Q varies as (f / q_reference) "
+                              "to this power (0: constant)")
+    q_reference: Frequency = quantity("frequency", default="10 MHz", gt=0, le=1e9,
+                                      description="Frequency at which q is given")
+    voltage_rating: Voltage | None = quantity("voltage", default=None, gt=0, le=1e6,
+                                              description="Peak voltage rating")
+
+    @model_validator(mode="after")
+    def _form(self) -> CapacitorSpec:
+        ranged = self.min is not None or self.max is not None
+        if ranged == (self.value is not None):
+            raise ValueError("give 'min' and 'max' (a variable capacitor) or 'value' (a "
+                             "fixed one)")
+        if ranged and (self.min is None or self.max is None):
+            raise ValueError("a variable capacitor needs both 'min' and 'max'")
+        if ranged and not self.min <= self.max:
+            raise ValueError("min: the minimum is above the maximum")
+        return self
+
+
+class InductorSpec(Strict):
+    """A tuner's inductor: a roller up to a maximum, a list of taps, or one
+    fixed value."""
+
+    max: Inductance | None = quantity("inductance", default=None, gt=0, le=1e-3, unit="uH",
+                                      description="Largest setting of a continuously "
+                                      "variable (roller) inductor")
+    min: Inductance = quantity("inductance", default="0.1 uH", gt=0, le=1e-3, unit="uH",
+                               description="What a roller leaves at its end stop")
+    taps: list[Inductance] | None = Field(None, min_length=1, max_length=64,
+                                          description="Values of a tapped inductor",
+                                          json_schema_extra={"unit": "uH",
+                                                             "dimension": "inductance"})
+    value: Inductance | None = quantity("inductance", default=None, gt=0, le=1e-3, unit="uH",
+                                        description="A fixed inductor")
+    q: float = Field(100.0, gt=0, le=1e6, description="Unloaded Q at the reference "
+                     "frequency (100-300 for an air-wound or roller coil, common practice)")
+    q_exponent: float = Field(0.0, ge=-2, le=2, description="Q varies as (f / q_reference) "
+                              "to this power (0.5: skin-effect loss of an air-wound coil)")
+    q_reference: Frequency = quantity("frequency", default="10 MHz", gt=0, le=1e9,
+                                      description="Frequency at which q is given")
+    current_rating: Current | None = quantity("current", default=None, gt=0, le=1e4,
+                                              description="RMS current rating")
+
+    @model_validator(mode="after")
+    def _form(self) -> InductorSpec:
+        given = [k for k in ("max", "taps", "value") if getattr(self, k) is not None]
+        if len(given) != 1:
+            raise ValueError("give one of 'max' (a roller), 'taps' or 'value' (fixed)")
+        if self.taps is not None and any(t <= 0 for t in self.taps):
+            raise ValueError("taps: every tap must be positive")
+        if self.max is not None and not self.min <= self.max:
+            raise ValueError("max: below the roller's minimum")
+        return self
+
+
+#: Part names of each tuner network, radio side first.
+TUNER_PARTS = {"high-pass-t": ("c1", "l", "c2"), "pi": ("c1", "l", "c2"),
+               "l-network": ("l", "c")}
+
+
+class TunerElement(Strict):
+    """An adjustable matching network (antenna tuner) of lossy parts."""
+
+    id: str = Field(..., description="Unique name of the element")
+    tuner: Literal["high-pass-t", "pi", "l-network"] = Field(
+        ..., description="Network: high-pass-t (series c1 at the radio side, shunt l, series "
+        "c2 at the antenna side), pi (shunt c1, series l, shunt c2) or l-network (one l, "
+        "one c)")
+    filter: Literal["low-pass", "high-pass"] = Field(
+        "low-pass", description="L-network only: low-pass (series l, shunt c) or high-pass "
+        "(series c, shunt l)")
+    shunt_side: Literal["antenna", "radio"] = Field(
+        "antenna", description="L-network only: the side its shunt part is on")
+    capacitor: CapacitorSpec = Field(default_factory=lambda: CapacitorSpec(
+        min=15e-12, max=250e-12), description="Every capacitor of the network (c1 and c2, "
+        "or c)", json_schema_extra={"default_text": "15 pF to 250 pF, Q 1000"})
+    c1: CapacitorSpec | None = Field(None, description="The radio-side capacitor, if it "
+                                     "differs from 'capacitor'")
+    c2: CapacitorSpec | None = Field(None, description="The antenna-side capacitor, if it "
+                                     "differs from 'capacitor'")
+    inductor: InductorSpec = Field(default_factory=lambda: InductorSpec(max=20e-6),
+                                   description="The inductor",
+                                   json_schema_extra={"default_text": "roller to 20 uH, Q 100"})
+    match_to: Resistance | None = quantity("resistance", default=None, gt=0, le=2000.0,
+                                           description="Resistance the network presents on "
+                                           "its radio side (default: the radio's impedance)")
+    swr_tolerance: float = Field(1.1, ge=1, le=10, description="Where no exact match lies "
+                                 "within the ranges, the setting of least SWR is accepted up "
+                                 "to this SWR")
+    settings: dict[str, dict[str, float | str]] = Field(
+        default_factory=dict, description="Your own settings per band: band name -> part "
+        "name (c1, l, c2 or c) -> value with unit; other bands are set for least loss",
+        json_schema_extra={"unit": "pF / uH"})
+    power_rating: Power | None = quantity("power", default=None, gt=0, le=1e6,
+                                          description="Rating of the power passing through")
+    switch: SwitchSpec | None = Field(None, description="A relay that takes the element "
+                                      "out of circuit on some bands (see Band-switched feeds)")
+
+    @model_validator(mode="after")
+    def _parts(self) -> TunerElement:
+        names = TUNER_PARTS[self.tuner]
+        if self.tuner == "l-network" and (self.c1 is not None or self.c2 is not None):
+            raise ValueError("c1: an l-network has one capacitor; give 'capacitor'")
+        parsed = {}
+        for band, given in self.settings.items():
+            missing = [k for k in names if k not in given]
+            extra = [k for k in given if k not in names]
+            if extra or missing:
+                raise ValueError(f"settings: band '{band}' needs exactly the parts "
+                                 f"{', '.join(names)} of the {self.tuner}")
+            vals = {}
+            for k, v in given.items():
+                dim = "inductance" if k == "l" else "capacitance"
+                try:
+                    vals[k] = (float(v) if isinstance(v, (int, float))
+                               and not isinstance(v, bool) else units.parse(v, dim))
+                except units.UnitError as exc:
+                    raise ValueError(f"settings: band '{band}' part {k}: {exc}") from None
+            parsed[band] = vals
+        object.__setattr__(self, "settings", parsed)
+        return self
+
+    def capacitor_for(self, name: str) -> CapacitorSpec:
+        """The spec of capacitor ``name`` (c1, c2 or c)."""
+        own = getattr(self, name, None) if name in ("c1", "c2") else None
+        return own or self.capacitor
 
 
 #: The keys that say what a feed element is, in the order they are looked for
 #: (a transformer may carry a 'choke' key of its own).
-ELEMENT_KEYS = ("line", "series", "shunt", "transformer", "choke")
+ELEMENT_KEYS = ("tuner", "line", "series", "shunt", "transformer", "choke")
 
 
 def _element_tag(v: Any) -> str | None:
@@ -874,7 +1100,8 @@ def _element_tag(v: Any) -> str | None:
             if key in v:
                 return "part" if key in ("series", "shunt") else key
         return None
-    for key, tag in (("line", "line"), ("transformer", "transformer"), ("choke", "choke")):
+    for key, tag in (("tuner", "tuner"), ("line", "line"), ("transformer", "transformer"),
+                     ("choke", "choke")):
         if hasattr(v, key) and getattr(v, key) is not None:
             return tag
     return "part"
@@ -883,10 +1110,11 @@ def _element_tag(v: Any) -> str | None:
 Element = Annotated[Annotated[LineElement, Tag("line")]
                     | Annotated[PartElement, Tag("part")]
                     | Annotated[TransformerElement, Tag("transformer")]
-                    | Annotated[ChokeElement, Tag("choke")],
+                    | Annotated[ChokeElement, Tag("choke")]
+                    | Annotated[TunerElement, Tag("tuner")],
                     Discriminator(_element_tag, custom_error_type="element_kind",
                                   custom_error_message="an element needs one of 'line', "
-                                  "'series', 'shunt', 'transformer' or 'choke'")]
+                                  "'series', 'shunt', 'transformer', 'choke' or 'tuner'")]
 
 
 # ----------------------------------------------------------------------------
@@ -956,13 +1184,22 @@ def _default_angles() -> list[ElevationOfInterest]:
 
 
 class TunerSpec(Strict):
-    """The matching unit the report's alternatives add: a lossy L-network."""
+    """The tuner the report's alternatives add (a shack tuner after the
+    chain, a remote one at the feedpoint): the design's own tuner element
+    when it has one, else a high-pass T of these parts."""
 
+    capacitor_min: Capacitance = quantity("capacitance", default="15 pF", gt=0, le=100e-9,
+                                          unit="pF", description="Smallest setting of each "
+                                          "capacitor")
+    capacitor_max: Capacitance = quantity("capacitance", default="250 pF", gt=0, le=100e-9,
+                                          unit="pF", description="Largest setting of each "
+                                          "capacitor")
+    inductor_max: Inductance = quantity("inductance", default="20 uH", gt=0, le=1e-3,
+                                        unit="uH", description="Largest setting of its "
+                                        "roller inductor")
     inductor_q: float = Field(100.0, gt=0, description="Unloaded Q of its inductor "
                               "(100 is common practice for a roller or tapped coil)")
-    capacitor_q: float = Field(1000.0, gt=0, description="Unloaded Q of its capacitor")
-    max_swr: float = Field(10.0, gt=1, description="Matching range: the highest SWR, "
-                           "against the radio's impedance, the unit can match")
+    capacitor_q: float = Field(1000.0, gt=0, description="Unloaded Q of its capacitors")
     remote_line: str | None = Field(None, description="Unbalanced line type from the unit "
                                     "at the feedpoint to the radio (default: the design's "
                                     "first unbalanced line, else rg-213)")
@@ -979,7 +1216,8 @@ class AlternativeSpec(Strict):
                                 description="Its feed chain from the antenna toward the "
                                 "radio, with the keys of 'feed'")
     tuner: Literal["none", "radio", "feedpoint"] = Field(
-        "none", description="Add the matching unit at the radio or at the feedpoint")
+        "none", description="Add the report's tuner (report.tuner) at the radio or at the "
+        "feedpoint")
 
     @model_validator(mode="after")
     def _unique_ids(self) -> AlternativeSpec:
@@ -1005,7 +1243,7 @@ class ReportSpec(Strict):
     exposure_duty: float = Field(1.0, gt=0, le=1, description="Duty factor of the mode for "
                                  "the RF exposure estimate (1, a continuous carrier, is the "
                                  "cautious choice)")
-    tuner: TunerSpec = Field(default_factory=TunerSpec, description="The matching unit of the "
+    tuner: TunerSpec = Field(default_factory=TunerSpec, description="The tuner of the "
                              "alternatives")
     alternatives: list[AlternativeSpec] = Field(default_factory=list,
                                                 max_length=limits.MAX_ALTERNATIVES,
@@ -1071,7 +1309,8 @@ class Design(Strict):
                                    "from the band table, or entries with "
                                    "name/low/high/points/weight")
     antenna: Antenna = Field(..., description="The radiator")
-    ground: Ground = Field(..., description="The ground")
+    ground: Ground = Field(default_factory=Ground, description="The ground (default: "
+                           "Sommerfeld-Norton over medium-dry soil, which suits any height)")
     feed: list[Element] = Field(..., max_length=limits.MAX_FEED_ELEMENTS,
                                 description="Feed chain from the antenna toward the radio "
                                 "(an empty list feeds the antenna directly)")

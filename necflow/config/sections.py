@@ -87,6 +87,9 @@ class CostSpec(_Strict):
     common_mode_weight: float = Field(0.0, ge=0, le=1000, description="Weight of the "
                                       "common-mode current at the station entry (per A RMS "
                                       "at the radio's power; with a route)")
+    unmatched_weight: float = Field(10.0, ge=0, le=1e4, description="Added to a point's "
+                                    "cost where a tuner in the chain cannot match the load "
+                                    "it sees (within its parts' ranges)")
     swr_softness: float = Field(0.1, gt=0, le=10, description="Width of the smooth knee of "
                                 "the SWR penalty at the limit, in SWR units")
     objectives: list[Literal["cost", "worst_swr", "loss_db", "span"]] = Field(

@@ -11,7 +11,13 @@ come from :mod:`necflow.feed.power`, the routine
 Fields a variant may change (``(element id, field)``, field names of the
 design file): a line's ``length`` and catalog ``line`` type, a part's
 ``value``, ``q`` and ``esr``, a transformer's ``ratio`` and ``loss`` (a choke:
-none; its matrix is the identity).
+none; its matrix is the identity; a tuner: none, it is set for the load each
+variant puts on it).
+
+Switch states are the base chain's (a relay's state is not varied here).  A
+tuner is set by :func:`necflow.feed.chain.resolve_matrices` without the
+near-match search (exact matches within the ranges only; a point matched
+only nearly counts as not matched), so that a batch's work stays bounded.
 """
 
 from __future__ import annotations
@@ -22,11 +28,12 @@ import numpy as np
 
 from necflow.catalog.lines import LINE_TYPES
 from necflow.feed import metrics, power
-from necflow.feed.chain import FeedChain, LineSection
+from necflow.feed.chain import FeedChain, LineSection, resolve_matrices, switched
 
 #: Fields of each element kind that :class:`FeedBatch` varies in numpy.
 SUPPORTED = {"line": {"length", "line"}, "series": {"value", "q", "esr"},
-             "shunt": {"value", "q", "esr"}, "transformer": {"ratio", "loss"}, "choke": set()}
+             "shunt": {"value", "q", "esr"}, "transformer": {"ratio", "loss"}, "choke": set(),
+             "tuner": set()}
 
 #: Design-file field -> element attribute, where the two differ.
 _ATTRIBUTE = {"line": "line_type", "loss": "loss_db"}
@@ -39,6 +46,7 @@ class BatchResponse:
     z_radio: np.ndarray
     swr: np.ndarray
     loss_db: np.ndarray
+    unmatched: np.ndarray | None = None
 
 
 class FeedBatch:
@@ -73,8 +81,9 @@ class FeedBatch:
             self.varied.setdefault(eid, set()).add(name)
         # elements that do not vary: their matrices once (warning here, once,
         # if the frequencies leave a line type's data)
-        self._static = {e.id: e.abcd(self.f) for e in chain.elements
-                        if e.id not in self.varied}
+        self._static = {e.id: switched(e.abcd(self.f), chain.out_mask(e.id, self.f))
+                        for e in chain.elements
+                        if e.id not in self.varied and e.kind != "tuner"}
 
     def _line_types(self, el: LineSection, names) -> np.ndarray:
         """Catalog line types by name, as an object array shaped like ``names``;
@@ -101,19 +110,24 @@ class FeedBatch:
     def variant_chain(self, values: dict[tuple[str, str], np.ndarray]) -> FeedChain:
         """The chain whose elements hold the variants' arrays: its
         ``abcd(f)`` is ``(nvar, nfreq, 2, 2)``."""
-        return FeedChain(tuple(self.variant(el, values) for el in self.chain.elements))
+        return FeedChain(tuple(self.variant(el, values) for el in self.chain.elements),
+                         self.chain.out)
 
     def matrices(self, values: dict[tuple[str, str], np.ndarray]) -> list[np.ndarray]:
         """Each element's ABCD, antenna side first: ``(nvar, nfreq, 2, 2)`` for
-        a varied element, ``(nfreq, 2, 2)`` for the others (computed once)."""
+        a varied element, ``(nfreq, 2, 2)`` for the others (computed once);
+        None for a tuner (set for its load by :meth:`response`)."""
         out = []
         for el in self.variant_chain(values).elements:
-            if el.id in self._static:
+            mask = self.chain.out_mask(el.id, self.f)
+            if el.kind == "tuner":
+                out.append(None)
+            elif el.id in self._static:
                 out.append(self._static[el.id])
             elif isinstance(el, LineSection):
-                out.append(el.abcd(self.f, warn=False))
+                out.append(switched(el.abcd(self.f, warn=False), mask))
             else:
-                out.append(el.abcd(self.f))
+                out.append(switched(el.abcd(self.f), mask))
         return out
 
     def response(self, values: dict[tuple[str, str], np.ndarray], z_feedpoint,
@@ -145,7 +159,16 @@ class FeedBatch:
         """
         nvar = max([np.asarray(a).size for a in values.values()] or [1])
         zfp = np.broadcast_to(np.asarray(z_feedpoint, dtype=complex), self.f.shape)
-        states = power.states_toward_radio(self.matrices(values), zfp)
+        mats = self.matrices(values)
+        unmatched = None
+        if any(m is None for m in mats):
+            elements, mats = resolve_matrices(self.variant_chain(values), mats, self.f, zfp,
+                                              near=False)
+            unmatched = np.zeros((nvar, self.f.size), dtype=bool)
+            for el in elements:
+                if el.kind == "tuner":
+                    unmatched |= ~np.asarray(el.can_match) & ~self.chain.out_mask(el.id, self.f)
+        states = power.states_toward_radio(mats, zfp)
         vn, i_n = v0, i0 = next(states)
         for v0, i0 in states:  # noqa: B007  (the last state is the radio's)
             pass
@@ -155,4 +178,4 @@ class FeedBatch:
         loss = power.total_loss_db(power.delivered_fraction(v0, i0, vn, i_n, z_ref))
         return BatchResponse(z_radio=z_radio,
                              swr=metrics.swr(metrics.reflection_coefficient(z_radio, z_ref)),
-                             loss_db=loss)
+                             loss_db=loss, unmatched=unmatched)

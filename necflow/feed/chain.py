@@ -20,7 +20,8 @@ from necflow.catalog.chokes import CHOKE_TYPES, ChokeType
 from necflow.catalog.lines import LINE_TYPES, LineType, resolve_line_type
 from necflow.errors import ConfigError, NecflowWarning
 from necflow.feed import line as tl
-from necflow.feed import twoport
+from necflow.feed import power, tuners, twoport
+from necflow.feed.adjustable import MatchingNetwork, SetNetwork
 from necflow.feed.choke import choke_impedance
 from necflow.feed.lumped import part_abcd, part_impedance
 from necflow.feed.transformer import transformer_abcd
@@ -211,7 +212,32 @@ class Choke:
         return choke_impedance(f, self.spec)
 
 
-FeedElement = LineSection | LumpedPart | Transformer | Choke
+FeedElement = (LineSection | LumpedPart | Transformer | Choke | MatchingNetwork
+               | tuners.TunedNetwork | SetNetwork)
+
+
+def out_mask(intervals, f) -> np.ndarray:
+    """Where ``f`` [Hz] lies in one of the ``(low, high)`` intervals [Hz]
+    (a switched element's bands out of circuit), ``f.shape``."""
+    f = np.asarray(f, dtype=float)
+    m = np.zeros(f.shape, dtype=bool)
+    for lo, hi in intervals:
+        m |= (f >= lo * (1 - 1e-12)) & (f <= hi * (1 + 1e-12))
+    return m
+
+
+def switched(m: np.ndarray, mask: np.ndarray) -> np.ndarray:
+    """The matrices ``m`` ``(..., nfreq, 2, 2)`` with the identity at the
+    frequencies of ``mask`` ``(nfreq,)``: the element out of circuit.
+
+    The identity carries a node's state through unchanged (``1 V + 0 I``
+    is ``V`` exactly), so a chain with an element switched out equals, on
+    those frequencies, the chain without it to the last bit.
+    """
+    if not mask.any():
+        return m
+    eye = twoport.identity(mask.size)
+    return np.where(mask[:, None, None], eye, m)
 
 
 @dataclass(frozen=True)
@@ -220,10 +246,29 @@ class FeedChain:
 
     Elements holding per-variant arrays (see :class:`LineSection`,
     :class:`LumpedPart`, :class:`Transformer`) make the chain a batch of
-    variants: its matrices are ``(..., nfreq, 2, 2)``.
+    variants: its matrices are ``(..., nfreq, 2, 2)``.  ``out`` maps the id
+    of a switched element to the frequency intervals ``(low, high)`` [Hz]
+    (its bands) on which a relay takes it out of circuit.  A tuner
+    (:class:`MatchingNetwork`) has a matrix only once :func:`resolve` has
+    set it for the load it sees.
     """
 
     elements: tuple[FeedElement, ...] = ()
+    out: dict = field(default_factory=dict)
+
+    def out_mask(self, element_id: str, f) -> np.ndarray:
+        """Where element ``element_id`` is out of circuit, over ``f``."""
+        return out_mask(self.out.get(element_id, ()), np.atleast_1d(f))
+
+    def with_elements(self, elements) -> FeedChain:
+        """Another chain of ``elements`` keeping the switch states of those
+        it still holds."""
+        ids = {e.id for e in elements}
+        return FeedChain(tuple(elements), {k: v for k, v in self.out.items() if k in ids})
+
+    @property
+    def has_tuner(self) -> bool:
+        return any(isinstance(e, MatchingNetwork) for e in self.elements)
 
     @property
     def ids(self) -> list[str]:
@@ -233,8 +278,10 @@ class FeedChain:
         return len(self.elements)
 
     def matrices(self, f) -> list[np.ndarray]:
-        """Each element's ABCD, antenna side first."""
-        return [e.abcd(f) for e in self.elements]
+        """Each element's ABCD, antenna side first (the identity where a
+        relay takes it out of circuit)."""
+        f = np.atleast_1d(np.asarray(f, dtype=float))
+        return [switched(e.abcd(f), self.out_mask(e.id, f)) for e in self.elements]
 
     def abcd(self, f) -> np.ndarray:
         """Whole-chain ABCD, radio at port 1, ``(nfreq, 2, 2)`` (``(..., nfreq,
@@ -244,7 +291,65 @@ class FeedChain:
 
     def input_impedance(self, f, z_feedpoint) -> np.ndarray:
         """Impedance seen by the radio [ohm] with the antenna's ``z_feedpoint``."""
-        return twoport.input_impedance(self.abcd(f), z_feedpoint)
+        chain = resolve(self, f, z_feedpoint) if self.has_tuner else self
+        return twoport.input_impedance(chain.abcd(f), z_feedpoint)
+
+
+def resolve(chain: FeedChain, f, z_feedpoint, *, near: bool = True) -> FeedChain:
+    """The chain with every tuner set for the load it sees.
+
+    The state is walked from the feedpoint toward the radio
+    (:func:`necflow.feed.power.states_toward_radio`); at a tuner the load is
+    ``V / I`` of the state reaching it, and the tuner is replaced by the
+    network set for it (:meth:`MatchingNetwork.set_for`).  A chain without
+    tuners is returned as it is.
+
+    Parameters
+    ----------
+    chain : FeedChain
+    f : array_like
+        ``(nfreq,)`` [Hz].
+    z_feedpoint : array_like
+        ``(nfreq,)`` [ohm].
+    near : bool
+        Passed to :meth:`MatchingNetwork.set_for`.
+    """
+    if not chain.has_tuner:
+        return chain
+    f = np.atleast_1d(np.asarray(f, dtype=float))
+    mats = [None if isinstance(e, MatchingNetwork) else m
+            for e, m in zip(chain.elements, _static_matrices(chain, f))]
+    elements, _ = resolve_matrices(chain, mats, f, z_feedpoint, near=near)
+    return FeedChain(tuple(elements), dict(chain.out))
+
+
+def _static_matrices(chain: FeedChain, f) -> list:
+    return [None if isinstance(e, MatchingNetwork)
+            else switched(e.abcd(f), chain.out_mask(e.id, f)) for e in chain.elements]
+
+
+def resolve_matrices(chain: FeedChain, mats: list, f, z_feedpoint, *, near: bool = True):
+    """Set the tuners of ``chain`` whose entry in ``mats`` is None.
+
+    ``mats`` holds the other elements' matrices (antenna side first, switch
+    states applied; per variant in a batch).  Returns the elements (tuners
+    set) and every matrix (a tuner switched out is the identity on its
+    bands).
+    """
+    f = np.atleast_1d(np.asarray(f, dtype=float))
+    v, i = power.feedpoint_state(np.broadcast_to(np.asarray(z_feedpoint, dtype=complex),
+                                                 f.shape))
+    elements, out = [], []
+    for e, m in zip(chain.elements, mats):
+        if m is None:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                zl = v / i
+            e = e.set_for(f, zl, near=near)
+            m = switched(e.matrices, chain.out_mask(e.id, f))
+        elements.append(e)
+        out.append(m)
+        v, i = twoport.apply(m, v, i)
+    return elements, out
 
 
 def _line_type(el, i: int) -> LineType:
@@ -265,7 +370,89 @@ def _choke_spec(spec, field_path: str):
     return spec
 
 
-def build_chain(feed: Sequence[Any], r_radio: float = 50.0) -> FeedChain:
+def _band_intervals(names, bands, field_path: str) -> tuple:
+    """``(low, high)`` [Hz] of the bands named, checked against ``bands``."""
+    known = {b.name: b for b in bands}
+    out = []
+    for k, name in enumerate(names):
+        if name not in known:
+            raise ConfigError(f"'{name}' is not one of the design's bands "
+                              f"({', '.join(known) or 'none'})", field=f"{field_path}[{k}]")
+        out.append((known[name].low_hz, known[name].high_hz))
+    return tuple(out)
+
+
+def switch_intervals(el, i: int, bands) -> tuple:
+    """The frequency intervals on which element ``el`` (``feed[i]``) is out
+    of circuit (empty without a switch)."""
+    sw = getattr(el, "switch", None)
+    if sw is None:
+        return ()
+    for key in ("bypass", "only"):
+        _band_intervals(getattr(sw, key) or [], bands, f"feed[{i}].switch.{key}")
+    return tuple((b.low_hz, b.high_hz) for b in bands if sw.is_out(b.name))
+
+
+def _q_law(spec) -> tuners.QLaw:
+    return tuners.QLaw(spec.q, spec.q_reference, spec.q_exponent)
+
+
+def _capacitor(spec) -> tuners.PartRange:
+    if spec.value is not None:
+        return tuners.PartRange("capacitor", spec.value, spec.value, (spec.value,), _q_law(spec))
+    return tuners.PartRange("capacitor", spec.min, spec.max, None, _q_law(spec))
+
+
+def _inductor(spec) -> tuners.PartRange:
+    q = _q_law(spec)
+    if spec.value is not None:
+        return tuners.PartRange("inductor", spec.value, spec.value, (spec.value,), q)
+    if spec.taps is not None:
+        taps = tuple(sorted(spec.taps))
+        return tuners.PartRange("inductor", taps[0], taps[-1], taps, q)
+    return tuners.PartRange("inductor", spec.min, spec.max, None, q)
+
+
+#: Design part names -> the physics module's part names.
+TUNER_PART_NAMES = {"c1": "C1", "l": "L", "c2": "C2", "c": "C"}
+
+
+def tuner_topology(el) -> str:
+    """The :data:`necflow.feed.tuners.TOPOLOGIES` name of a tuner element."""
+    if el.tuner == "high-pass-t":
+        return "high-pass T"
+    if el.tuner == "pi":
+        return "pi"
+    return tuners.l_topology(el.filter == "low-pass", el.shunt_side == "antenna")
+
+
+def matching_network(el, i: int, r_radio: float, bands=()) -> MatchingNetwork:
+    """The :class:`MatchingNetwork` of a design's tuner element ``feed[i]``."""
+    parts, ratings = {}, {}
+    for name in ("c1", "c2") if el.tuner != "l-network" else ("c",):
+        spec = el.capacitor_for(name)
+        parts[TUNER_PART_NAMES[name]] = _capacitor(spec)
+        if spec.voltage_rating is not None:
+            ratings[TUNER_PART_NAMES[name]] = {"voltage_rating": spec.voltage_rating}
+    parts["L"] = _inductor(el.inductor)
+    if el.inductor.current_rating is not None:
+        ratings["L"] = {"current_rating": el.inductor.current_rating}
+    tuner = tuners.Tuner(tuner_topology(el), parts)
+    user = []
+    for band, values in el.settings.items():
+        ((lo, hi),) = _band_intervals([band], bands, f"feed[{i}].settings")
+        vals = {TUNER_PART_NAMES[n]: v for n, v in values.items()}
+        for n, v in vals.items():
+            if not parts[n].contains(np.array([v]))[0]:
+                raise ConfigError(f"band '{band}': {n} = {tuners.format_value(parts[n].kind, v)}"
+                                  " is outside the part's range",
+                                  field=f"feed[{i}].settings.{band}")
+        user.append((lo, hi, vals))
+    return MatchingNetwork(el.id, tuner, float(el.match_to or r_radio), el.swr_tolerance,
+                           tuple(user), ratings)
+
+
+def build_chain(feed: Sequence[Any], r_radio: float = 50.0, bands=()) -> FeedChain:
     """Turn a design's feed list into a :class:`FeedChain`.
 
     Parameters
@@ -276,17 +463,29 @@ def build_chain(feed: Sequence[Any], r_radio: float = 50.0) -> FeedChain:
         An empty list is a direct feed.
     r_radio : float
         The radio's reference impedance [ohm]; transformers take it as their
-        radio-side reference (their matched loss is defined there).
+        radio-side reference (their matched loss is defined there), and a
+        tuner matches to it unless it names its own ``match_to``.
+    bands : sequence of Band
+        The design's bands (:func:`necflow.catalog.bands.resolve_bands`):
+        the names a switch or a tuner's settings give are looked up here.
 
     Raises
     ------
     ConfigError
         Unknown line type (``field='feed[i].line'``, ``i`` from 0) or choke
-        (``field='feed[i].choke.catalog'``).
+        (``field='feed[i].choke.catalog'``), a band a switch or a setting
+        names that the design does not have, a setting outside its part's
+        range.
     """
     out: list[FeedElement] = []
+    off: dict = {}
     for i, el in enumerate(feed):
-        if hasattr(el, "line") and getattr(el, "line", None) is not None:
+        intervals = switch_intervals(el, i, bands)
+        if intervals:
+            off[el.id] = intervals
+        if getattr(el, "tuner", None) is not None:
+            out.append(matching_network(el, i, r_radio, bands))
+        elif hasattr(el, "line") and getattr(el, "line", None) is not None:
             out.append(LineSection(el.id, _line_type(el, i), el.length))
         elif hasattr(el, "transformer"):
             choke = el.common_mode_choke
@@ -300,5 +499,5 @@ def build_chain(feed: Sequence[Any], r_radio: float = 50.0) -> FeedChain:
             out.append(Choke(el.id, _choke_spec(el.choke, f"feed[{i}].choke")))
         else:
             raise ConfigError("an element needs one of 'line', 'series', 'shunt', "
-                              "'transformer' or 'choke'", field=f"feed[{i}]")
-    return FeedChain(tuple(out))
+                              "'transformer', 'choke' or 'tuner'", field=f"feed[{i}]")
+    return FeedChain(tuple(out), off)

@@ -703,7 +703,8 @@ def _near_match(tuner, f_i, zl_i, r0):
     return best
 
 
-def _fmt(kind, v):
+def format_value(kind: str, v: float) -> str:
+    """A part value as text: ``'120 pF'``, ``'3.2 uH'``."""
     return f"{v * 1e12:.4g} pF" if kind == "capacitor" else f"{v * 1e6:.4g} uH"
 
 
@@ -739,14 +740,14 @@ def _diagnose(tuner, f_i, zl_i, r0, near_swr, tol):
         if excess[name][i] > 1e-6:
             p = tuner.parts[name]
             v = vals[name][i]
-            side = (f"above its maximum {_fmt(kind, p.maximum)}" if v > p.maximum
-                    else f"below its minimum {_fmt(kind, p.minimum)}")
-            out.append(f"{name} would need {_fmt(kind, v)}, {side}")
+            side = (f"above its maximum {format_value(kind, p.maximum)}" if v > p.maximum
+                    else f"below its minimum {format_value(kind, p.minimum)}")
+            out.append(f"{name} would need {format_value(kind, v)}, {side}")
     return "range runs out: " + "; ".join(out)
 
 
 def tune(tuner: Tuner, f, z_load, r_source: float = 50.0, *, swr_tolerance: float = 1.1,
-         id: str = "tuner") -> TunedNetwork:
+         id: str = "tuner", near_match: bool = True) -> TunedNetwork:
     """Set an adjustable network for the least loss that matches the load.
 
     Parameters
@@ -763,6 +764,10 @@ def tune(tuner: Tuner, f, z_load, r_source: float = 50.0, *, swr_tolerance: floa
         Highest SWR accepted for a near match (1.0: exact matches only).
     id : str
         Element id in a chain.
+    near_match : bool
+        Search a near match (step 2 below) and diagnose the points that
+        cannot match; False (a batch of many variants) skips both: such a
+        point cannot match, its reason is "no exact match within the ranges".
 
     Returns
     -------
@@ -817,7 +822,9 @@ def tune(tuner: Tuner, f, z_load, r_source: float = 50.0, *, swr_tolerance: floa
     with np.errstate(all="ignore"):
         settings, ok = _exact(tuner, w, zl, r0, qs)
         reason = np.full(f.size, "", dtype=object)
-        for i in np.nonzero(~ok)[0]:
+        if not near_match:
+            reason[~ok] = "no exact match within the ranges"
+        for i in np.nonzero(~ok)[0] if near_match else ():
             if not zl[i].real > 0:
                 reason[i] = _diagnose(tuner, f[i], zl[i], r0, np.inf, swr_tolerance)
                 continue
@@ -874,9 +881,10 @@ def evaluate_setting(tuner: Tuner, f, z_load, settings: Mapping[str, object],
         bad = ~tuner.parts[name].contains(v)
         if bad.any():
             p = tuner.parts[name]
-            allowed = (f"its taps {', '.join(_fmt(kind, t) for t in p.values)}" if p.discrete
-                       else f"{_fmt(kind, p.minimum)} to {_fmt(kind, p.maximum)}")
-            raise NecflowError(f"tuner setting: {name} = {_fmt(kind, v[bad][0])} is not a "
+            fmt = format_value
+            allowed = (f"its taps {', '.join(fmt(kind, t) for t in p.values)}" if p.discrete
+                       else f"{fmt(kind, p.minimum)} to {fmt(kind, p.maximum)}")
+            raise NecflowError(f"tuner setting: {name} = {format_value(kind, v[bad][0])} is not a "
                                f"setting of the part ({allowed})")
         vals[name] = v
     w = 2.0 * math.pi * f
@@ -984,3 +992,54 @@ def tuner_stress(net: TunedNetwork, power: float, *, power_is: str = "available"
             diss[name] = np.where(ok, np.abs(ip) ** 2 * z.real, np.nan)
         p_out = np.where(ok, (v * i.conj()).real, p_in)
     return TunerStress(p_in=p_in, p_out=p_out, v_peak=v_peak, i_rms=i_rms, dissipation=diss)
+
+
+def part_stress(net: TunedNetwork, v1, i1) -> dict:
+    """Each part's voltage, current and dissipation for a given state at
+    the network's radio side (port 1).
+
+    Parameters
+    ----------
+    net : TunedNetwork
+    v1, i1 : array_like
+        RMS voltage [V] and current toward the load [A] at port 1,
+        ``(nfreq,)`` (the power flow of the chain the network sits in).
+
+    Returns
+    -------
+    dict
+        Part name -> {"kind", "v_peak" [V], "i_rms" [A], "p_diss_w" [W]},
+        arrays ``(nfreq,)``, NaN where the network is a through connection
+        (cannot match).
+
+    Notes
+    -----
+    The walk of :func:`tuner_stress` from a known port-1 state: a series
+    part carries the current and drops ``I Z``, a shunt part sees the
+    voltage and draws ``V / Z``; each part dissipates ``I^2 ESR``.
+
+    References
+    ----------
+    .. [1] D. M. Pozar, *Microwave Engineering*, 4th ed., Wiley 2012, sec. 4.4.
+    """
+    f = net.f
+    w = 2.0 * math.pi * f
+    ok = np.isfinite(np.asarray([net.settings[s[0]] for s in net.tuner.slots])).all(axis=0)
+    safe = {k: np.where(ok, np.asarray(v, dtype=float), 1.0) for k, v in net.settings.items()}
+    v = np.asarray(v1, dtype=complex).copy()
+    i = np.asarray(i1, dtype=complex).copy()
+    out = {}
+    with np.errstate(all="ignore"):
+        for name, kind, placement in net.tuner.slots:
+            z = _part_z(kind, safe[name], w, net.tuner.parts[name].q(f))
+            if placement == "series":
+                vp, ip = i * z, i
+                v = v - vp
+            else:
+                vp, ip = v, v / z
+                i = i - ip
+            out[name] = {"kind": kind,
+                         "v_peak": np.where(ok, math.sqrt(2.0) * np.abs(vp), np.nan),
+                         "i_rms": np.where(ok, np.abs(ip), np.nan),
+                         "p_diss_w": np.where(ok, np.abs(ip) ** 2 * z.real, np.nan)}
+    return out

@@ -393,7 +393,9 @@ def _graded(pieces, fine: set[int], grading: Grading,
 END_FED_GAP = 0.1
 
 #: A line's segments stay at least this many times its common-mode radius
-#: (the thin-wire kernel wants 8, NEC-2 user guide; a margin for round-off).
+#: (the thin-wire kernel wants 8, NEC-2 user guide; a margin for round-off),
+#: and a route piece's grading starts no shorter than 1.1 finest segments
+#: (a graded piece's count rounds up, which shortens its segments a little).
 _THICK = 8.5
 
 
@@ -528,7 +530,7 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
         idx = len(pieces)
         pieces.append(("line" if here is None else f"choke {here.name}", node_at[lo],
                        node_at[hi], r))
-        thick[idx] = _THICK * r
+        thick[idx] = max(_THICK * r, 1.1 * finest)
         if here is not None:
             fine.add(idx)
             loads.append((idx, here))
@@ -549,7 +551,7 @@ def plan_routed_wires(spans: list[WireSpan], feed: FeedLocation, grading: Gradin
         s = min(max(finest, _THICK * r_end), end[2] / 1.5)
         knee = np.array([end[0], end[1], s])
         pieces.append(("entry wire", end, knee, r_end))
-        thick[len(pieces) - 1] = _THICK * r_end
+        thick[len(pieces) - 1] = max(_THICK * r_end, 1.1 * finest)
         pieces.append(("entry load" if entry_load is not None else "entry contact", knee, foot,
                        r_end))
         fine.add(len(pieces) - 1)

@@ -125,6 +125,12 @@ def summarize(model: WireModel, design: Design, f_min_hz: float,
     rows = tuple(rows)
     z = min(min(float(w.start[2]), float(w.end[2])) for w in model.wires)
     h_wl = z / lam_max
-    return ModelSummary(rows, model.segment_count, h_wl, model.ground.kind,
-                        _verdict(model.ground.kind, h_wl),
+    verdict = _verdict(model.ground.kind, h_wl)
+    if "ground" not in design.model_fields_set or "model" not in design.ground.model_fields_set:
+        verdict += (f"; the default ground, as the design names no ground model (over "
+                    f"{design.ground.surface or 'the given'} soil): 'reflection' would suit "
+                    f"wires at least about {REFLECTION_MIN_HEIGHT_WL} wavelength up at the "
+                    "lowest frequency and solves faster, 'perfect' and 'free-space' are "
+                    "idealisations for comparison")
+    return ModelSummary(rows, model.segment_count, h_wl, model.ground.kind, verdict,
                         tuple(check_rules(model, design, f_min_hz, f_max_hz)))

@@ -20,7 +20,8 @@ import io
 import itertools
 import json
 import re
-from concurrent.futures import ProcessPoolExecutor
+from collections.abc import Callable
+from concurrent.futures import ProcessPoolExecutor, as_completed
 from multiprocessing import get_context
 from pathlib import Path
 from typing import Any, Literal
@@ -31,7 +32,7 @@ import yaml
 from matplotlib.figure import Figure
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_validator
 
-from necflow import fileio
+from necflow import fileio, units
 from necflow.chain import load_design_text
 from necflow.config.load import parse_yaml, read_design_text
 from necflow.engine.response import ResponseCache
@@ -209,9 +210,12 @@ def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
 
 
 def run_batch(path, out: Path | None = None, *, workers: int = 1, storage: str | None = None,
-              solver=None) -> tuple[BatchSpec, list[dict], list[str], Path]:
+              solver=None, on_step: Callable[[int, int | None, str], None] | None = None
+              ) -> tuple[BatchSpec, list[dict], list[str], Path]:
     """Run every unfinished cell; returns the spec, all cell summaries, the
-    ids of the cells skipped because they had finished before, and the folder."""
+    ids of the cells skipped because they had finished before, and the folder.
+    ``on_step(done, total, text)`` (a command's progress) comes before each
+    cell, or with several workers as each cell finishes."""
     spec, todo = load_batch(path)
     safe = re.sub(r"[^A-Za-z0-9_.-]+", "-", spec.name)
     out = Path(out) if out else Path("runs") / f"{safe}-batch"
@@ -221,15 +225,22 @@ def run_batch(path, out: Path | None = None, *, workers: int = 1, storage: str |
             skipped.append(cid)
         else:
             pending.append((cid, over, text))
-    if workers > 1 and len(pending) > 1:
+    step = on_step or (lambda done, total, text: None)
+    n = len(pending)
+    if workers > 1 and n > 1:
         with ProcessPoolExecutor(max_workers=workers, mp_context=get_context("spawn")) as ex:
-            futs = [ex.submit(run_cell, spec, cid, over, text, out / "cells" / cid, storage,
-                              solver) for cid, over, text in pending]
-            for f in futs:
+            futs = {ex.submit(run_cell, spec, cid, over, text, out / "cells" / cid, storage,
+                              solver): cid for cid, over, text in pending}
+            step(0, n, f"{n} cells on {workers} workers")
+            for k, f in enumerate(as_completed(futs), start=1):
                 f.result()
+                if k < n:
+                    step(k, n, f"cell {futs[f]} finished")
     else:
-        for cid, over, text in pending:
+        for k, (cid, over, text) in enumerate(pending):
+            step(k, n, f"cell {cid} ({_describe(over)})")
             run_cell(spec, cid, over, text, out / "cells" / cid, storage, solver)
+    step(0, None, "summary table and plot")
     summaries = [json.loads((out / "cells" / cid / "cell.json").read_text())
                  for cid, _, _ in todo]
     write_summary(spec, summaries, out)
@@ -245,16 +256,46 @@ def _short(value: Any) -> str:
     return str(value)
 
 
+def _quantity_column(values: list) -> tuple[str | None, list[float]] | None:
+    """Matrix values as numbers: quantities of one dimension in its display
+    unit (``("m", [9.0, 12.0])``), plain numbers without a unit (``(None,
+    [...])``); None when a value is neither (a mapping, a range, a name)."""
+    if all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in values):
+        return None, [float(v) for v in values]
+    if not all(isinstance(v, str) for v in values):
+        return None
+    for dim in units.DIMENSIONS:
+        try:
+            si_values = [units.parse(v, dim) for v in values]
+        except units.UnitError:
+            continue
+        shown = units.display_unit(dim)
+        return shown, [float(units.format_quantity(v, dim, shown, digits=12).split()[0])
+                       for v in si_values]
+    return None
+
+
 def summary_rows(spec: BatchSpec, summaries: list[dict]) -> tuple[list[str], list[list]]:
+    """The summary table: a row per cell, numbers as numbers and every unit
+    in its column's header (``antenna.height [m]``, ``loss_db``); a matrix
+    value that is not a number (a ground mapping, a range) stays text."""
     keys = list(spec.matrix)
     bands = list(summaries[0]["bands"]) if summaries else []
-    head = ["cell", *keys, "cost", "worst_swr", "loss_db"] + [f"{b}.swr_max" for b in bands]
-    rows = []
-    for s in summaries:
-        row = [s["cell"]] + [_short(s["overrides"][k]) for k in keys]
-        row += [f"{s['cost']:.4g}", f"{s['worst_swr']:.3g}", f"{s['loss_db']:.3g}"]
-        row += [f"{s['bands'][b]['swr_max']:.3g}" for b in bands]
-        rows.append(row)
+    head, columns = ["cell"], [[s["cell"] for s in summaries]]
+    for k in keys:
+        values = [s["overrides"][k] for s in summaries]
+        numeric = _quantity_column(values) if values else None
+        if numeric is None:
+            head.append(k)
+            columns.append([_short(v) for v in values])
+        else:
+            unit, numbers = numeric
+            head.append(f"{k} [{unit}]" if unit else k)
+            columns.append(numbers)
+    head += ["cost", "worst_swr", "loss_db"] + [f"{b}.swr_max" for b in bands]
+    columns += [[float(s[t]) for s in summaries] for t in ("cost", "worst_swr", "loss_db")]
+    columns += [[float(s["bands"][b]["swr_max"]) for s in summaries] for b in bands]
+    rows = [list(r) for r in zip(*columns)] if summaries else []
     return head, rows
 
 

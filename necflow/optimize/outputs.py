@@ -76,7 +76,9 @@ def ranked_trials(study, n: int = LEADERBOARD_ROWS) -> list:
 
 
 def leaderboard_csv(study, space, objectives) -> str:
-    """CSV text: rank, trial, objectives, parameters (display units), band terms."""
+    """CSV text: rank, trial, objectives (``objective.<name>``), parameters
+    (their display unit in the header), the nominal cost terms and the band
+    terms; every header once."""
     rows = ranked_trials(study)
     band_keys: list[str] = []
     for t in rows:
@@ -86,7 +88,10 @@ def leaderboard_csv(study, space, objectives) -> str:
                     key = f"{k[5:]}.{term}"
                     if key not in band_keys:
                         band_keys.append(key)
-    head = ["rank", "trial"] + list(objectives)
+    # the objectives as the study scored them (robust ones over the cases), apart
+    # from the nominal terms below, which share some of their names
+    head = ["rank", "trial"] + [f"objective.{o}" + (" [m]" if o == "span" else "")
+                                for o in objectives]
     for p in space.params:
         head.append(f"{p.path} [{_DISPLAY[p.dimension]}]" if p.dimension else p.path)
     head += ["cost", "worst_swr", "loss_db"] + band_keys

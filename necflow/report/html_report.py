@@ -24,7 +24,7 @@ FILE_NAME = "report.html"
 #: Column of the alternatives table each element kind's loss adds to (the
 #: others have a column of their own name); a choke goes with the
 #: transformers and baluns.
-_LOSS_COLUMN = {"series": "part", "shunt": "part", "choke": "transformer"}
+_LOSS_COLUMN = {"series": "part", "shunt": "part", "choke": "transformer", "tuner": "matching"}
 
 CSS = """
 body{font-family:sans-serif;font-size:10.5pt;margin:1.5em auto;max-width:70em;color:#111}
@@ -71,7 +71,8 @@ def _stress_cautions(report: dict) -> list[str]:
         for note in r["notes"]:
             if "exceeded" in note:
                 out.append(f"{r['id']}: {note}")
-            elif r["kind"] in ("series", "shunt", "transformer", "choke"):
+            elif r["kind"] in ("series", "shunt", "transformer", "choke", "tuner capacitor",
+                               "tuner inductor"):
                 missing.append(f"{r['id']} ({note.replace('no ', '').replace(' given', '')})")
     if missing:
         out.append("no rating given for " + ", ".join(missing) + ": the stress table shows "
@@ -93,20 +94,37 @@ def _table(head: list[str], rows: list[list[str]], left: int = 1, cls: str = "")
     return f"<table{attr}><tr>{h}</tr>{body}</table>"
 
 
+def _score(d: dict, n_labels: int) -> tuple[float, str]:
+    """What ranks the alternatives on a band: the mean system gain over the
+    elevations of interest [dBi], else minus the total loss [dB]."""
+    if d.get("system_gain_dbi") is not None:
+        return sum(d["system_gain_dbi"]) / n_labels, "system gain"
+    total = d["loss_db"]["total"]
+    return (-total if total is not None else float("-inf")), "total loss"
+
+
 def _summary(results: dict, report: dict) -> str:
+    """Per band: which way of feeding wins, and by how many dB over the
+    next best."""
     labels = [e["label"] for e in report["elevations"]]
     out = []
     for i, b in enumerate(results["bands"]):
-        scored = [(a, a["bands"][i]) for a in report["alternatives"]
-                  if a["bands"][i]["system_gain_dbi"] is not None]
+        scored = sorted(((_score(a["bands"][i], len(labels)), a, a["bands"][i])
+                         for a in report["alternatives"]), key=lambda t: -t[0][0])
         if not scored:
             continue
-        best = max(scored, key=lambda t: sum(t[1]["system_gain_dbi"]) / len(labels))
-        d = best[1]
-        gains = ", ".join(f"{_num(g, '.1f')} dBi {_e(lab)}"
-                          for g, lab in zip(d["system_gain_dbi"], labels))
-        out.append(f"<li><b>{_e(b['band'])}</b>: best system gain with <b>{_e(best[0]['name'])}"
-                   f"</b> ({gains}; SWR at the radio {_num(d['swr_centre'])} at the band's "
+        (top, basis), best, d = scored[0]
+        margin = ""
+        if len(scored) > 1:
+            (second, _), runner, _ = scored[1]
+            margin = (f", {_num(top - second, '.1f')} dB ahead of {_e(runner['name'])}"
+                      if second > float("-inf") else "")
+        gains = (", ".join(f"{_num(g, '.1f')} dBi {_e(lab)}"
+                           for g, lab in zip(d["system_gain_dbi"], labels))
+                 if d.get("system_gain_dbi") is not None
+                 else f"total loss {_num(d['loss_db']['total'])} dB")
+        out.append(f"<li><b>{_e(b['band'])}</b>: <b>{_e(best['name'])}</b> wins on {basis}"
+                   f"{margin} ({gains}; SWR at the radio {_num(d['swr_centre'])} at the band's "
                    f"centre, {_num(d['delivered_w'], '.0f')} W of {report['radio_power_w']:g} W "
                    "reach the antenna)</li>")
     return "<ul>" + "".join(out) + "</ul>"
@@ -185,7 +203,7 @@ def _alternatives(report: dict) -> str:
                               for a in alts) + "</ol>"]
     for i, b in enumerate(alts[0]["bands"]):
         head = ["#", "alternative", "SWR centre", "SWR max", "mismatch dB", "lines dB",
-                "parts dB", "transformers dB", "matching unit dB", "total dB",
+                "parts dB", "transformers dB", "tuner dB", "total dB",
                 "delivered W"] + [f"system gain dBi {_e(lab)}" for lab in labels] + ["note"]
         rows = []
         for j, a in enumerate(alts):
@@ -197,26 +215,82 @@ def _alternatives(report: dict) -> str:
                     continue
                 k = kinds.get(term, "line")
                 by[_LOSS_COLUMN.get(k, k)] += v
-            note = ""
-            if "tuner" in d:
-                t = d["tuner"]
-                note = (f"{_e(t['topology'])}" if t["can_match_centre"]
-                        else '<span class="bad">cannot match</span>')
-                if t["can_match_centre"] and t["topology"] != "through":
-                    note += (f": L {_num(t['inductance_h'] * 1e6)} uH, "
-                             f"C {_num(t['capacitance_f'] * 1e12, '.1f')} pF")
-                if t["can_match_centre"] and not t["can_match_all"]:
-                    note += "; not across the whole band"
+            notes = []
+            for tid, t in d.get("tuners", {}).items():
+                if not t["can_match_centre"]:
+                    notes.append(f'{_e(tid)}: <span class="bad">cannot match</span>')
+                    continue
+                dial = ", ".join(f"{_e(k)} {_num(v * (1e12 if k.startswith('c') else 1e6), '.3g')}"
+                                 f" {'pF' if k.startswith('c') else 'uH'}"
+                                 for k, v in t["settings"].items())
+                notes.append(f"{_e(tid)}: {dial}" + ("" if t["can_match_all"]
+                                                     else "; not across the whole band"))
+            note = "; ".join(notes)
             sg = d["system_gain_dbi"] or [None] * len(labels)
             rows.append([str(j + 1), _e(a["name"]), _num(d["swr_centre"]), _num(d["swr_max"]),
                          _num(d["loss_db"]["mismatch"]), _num(by["line"]), _num(by["part"]),
                          _num(by["transformer"]),
-                         _num(by["matching"]) if "tuner" in d else "-",
+                         _num(by["matching"]) if "tuners" in d else "-",
                          _num(d["loss_db"]["total"]), _num(d["delivered_w"], ".1f")]
                         + [_num(g, ".1f") for g in sg] + [note])
         parts.append(f"<h3>{_e(b['band'])} at {b['frequency_hz'] / 1e6:.3f} MHz</h3>"
                      + _table(head, rows, left=2))
     return "".join(parts)
+
+
+def _tuning(results: dict, report: dict) -> str:
+    """The tuning chart (results.json's 'tuning'): empty without a tuner."""
+    rows_in = results.get("tuning") or []
+    if not rows_in:
+        return ""
+    p, pw = report["radio_power_w"], report["worst_case_power_w"]
+    names = sorted({n for r in rows_in for n in r["settings"]}, key=lambda n: (n[0] != "c", n))
+    caps = [n for n in names if n.startswith("c")]
+    head = (["tuner", "band", "where", "MHz"]
+            + [f"{_e(n)} {'pF' if n.startswith('c') else 'uH'}" for n in names]
+            + ["loss dB", "SWR"] + [f"{_e(n)} peak V at {p:g} W / {pw:g} W" for n in caps]
+            + [f"l A at {p:g} W / {pw:g} W", "caution"])
+    rows = []
+    for r in rows_in:
+        def v(n, r=r):
+            x = r["settings"].get(n)
+            return _num(None if x is None else x * (1e12 if n.startswith("c") else 1e6), ".3g")
+        caution = r["caution"]
+        rows.append([_e(r["tuner"]), _e(r["band"]), _e(r["where"]),
+                     f"{r['frequency_hz'] / 1e6:.3f}"] + [v(n) for n in names]
+                    + [_num(r["loss_db"]), _num(r["swr"])]
+                    + [f"{_num(r['v_peak'].get(n), '.0f')} / "
+                       f"{_num(r['v_peak_worst'].get(n), '.0f')}" for n in caps]
+                    + [f"{_num(r['i_rms'])} / {_num(r['i_rms_worst'])}",
+                       f'<span class="bad">{_e(caution)}</span>' if caution else ""])
+    return ("<h2>Tuning chart</h2>" + _table(head, rows, left=3)
+            + '<p class="muted">What to dial on each band (also in tuning.csv). Never touch a '
+            "tuner while transmitting: its capacitors carry the peak voltages shown.</p>")
+
+
+def _switching(results: dict) -> str:
+    """Which relay is closed on which band, and each relay's stress."""
+    relays = results.get("relays") or []
+    if not relays:
+        return ""
+    bands = [b["band"] for b in relays[0]["bands"]]
+    head = ["element", "relays"] + [_e(b) for b in bands] + [
+        "peak V across open contacts", "RMS A through closed contacts"]
+    rows = []
+    for r in relays:
+        cells = [("closed" if b["closed"] else "open") + (", out" if b["element_out"]
+                                                          else ", in")
+                 for b in r["bands"]]
+        vs = [b["v_open_peak"] for b in r["bands"] if b["v_open_peak"] is not None]
+        cs = [b["i_closed_rms"] for b in r["bands"] if b["i_closed_rms"] is not None]
+        rows.append([_e(r["id"]), str(r["relays"])] + cells
+                    + [_num(max(vs) if vs else None, ".0f"), _num(max(cs) if cs else None)])
+    total = sum(r["relays"] for r in relays)
+    return ("<h2>Band switching</h2>" + _table(head, rows, left=1)
+            + f'<p class="muted">{total} relay(s) in all. Contacts across a series element '
+            "close to take it out; contacts in series with a shunt part open to take it out. "
+            "Stress at the radio's power over each band's points; choose contacts rated for "
+            "the voltage (high RF voltage) and current at your highest power.</p>")
 
 
 def _stress(report: dict) -> str:
@@ -347,10 +421,12 @@ give 2.0 (1.0) within a few percent.</p>
 {_across(report)}
 <h2>Alternatives</h2>{_alternatives(report)}
 <p class="muted">System gain = antenna gain less the feed system's total loss (from the radio's
-available power to the feedpoint). The matching unit is a lossy L-network of one coil and one
-capacitor (low-pass or high-pass, shunt part at the load or at the source, chosen per frequency
-for the least loss) within its matching range; the note gives its part values at the band's
-centre.</p>
+available power to the feedpoint). Every alternative is built of the same element models. The
+tuner is the design's own tuner when it has one, else a high-pass T of lossy parts
+(report.tuner), set at each frequency for the least loss within its parts' ranges; the note
+gives its settings at the band's centre.</p>
+{_tuning(results, report)}
+{_switching(results)}
 <h2>SWR</h2>{_img(figures.swr_figure(results, report), "SWR at the radio per band")}
 <h2>Impedance</h2>{_img(figures.smith_figure(results), "Smith charts")}
 <h2>Loss budget</h2>{_img(figures.loss_figure(report), "stacked loss per alternative")}

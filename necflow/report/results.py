@@ -106,7 +106,31 @@ def results_document(evaluation, *, config_sha256: str) -> dict[str, Any]:
         "cautions": list(evaluation.cautions),
         "bands": band_records(evaluation),
         "points": point_records(evaluation),
+        "tuning": list(getattr(evaluation, "tuning", []) or []),
+        "relays": relay_records(evaluation),
     }
+
+
+def relay_records(evaluation) -> list[dict[str, Any]]:
+    """Each switched element's relay: its state per band (contacts closed
+    or open, element in or out) and its stress at the radio's power over
+    the band's points."""
+    s = evaluation.system
+    out = []
+    for eid, r in getattr(s, "relays", {}).items():
+        bands = []
+        for i, b in enumerate(evaluation.bands):
+            sel = evaluation.band_index == i
+            v = r.v_open_peak[sel]
+            c = r.i_closed_rms[sel]
+            bands.append({"band": b.name, "closed": bool(r.closed[sel].all()),
+                          "element_out": bool(r.out[sel].all()),
+                          "v_open_peak": float(np.nanmax(v)) if np.isfinite(v).any() else None,
+                          "i_closed_rms": float(np.nanmax(c)) if np.isfinite(c).any()
+                          else None})
+        out.append({"id": eid, "kind": s.stress[eid].kind, "relays": r.contacts,
+                    "bands": bands})
+    return out
 
 
 def write_json(doc: dict[str, Any], path) -> None:
@@ -125,7 +149,7 @@ def csv_text(doc: dict[str, Any]) -> str:
             "x_radio_ohm", "swr", "return_loss_db", "delivered_fraction"]
     head += [f"loss_{k}_db" for k in loss_keys]
     for eid in stress_ids:
-        head += [f"{eid}_v_peak", f"{eid}_i_rms", f"{eid}_p_diss_w"]
+        head += [f"{eid}_v_peak_v", f"{eid}_i_rms_a", f"{eid}_p_diss_w"]
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(head)

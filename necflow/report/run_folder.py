@@ -2,7 +2,8 @@
 
 ``runs/<name>-<UTC timestamp>/`` holds ``design.resolved.yaml`` (every default
 filled in, with units), ``manifest.json`` (versions, config hash, command
-line, times), ``results.json``, ``results.csv`` and ``swr.png``.
+line, times), ``results.json``, ``results.csv``, ``swr.png`` and, with a
+tuner in the chain, ``tuning.csv`` (the tuning chart).
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ from importlib import metadata
 from pathlib import Path
 
 from necflow import __version__, fileio
+from necflow.analysis.tuning import chart_csv
 from necflow.config.resolve import config_sha256, resolved_yaml
 from necflow.errors import ConfigError
 from necflow.report import results
@@ -90,6 +92,10 @@ def write_run_folder(evaluation, report_doc: dict, folder: Path, *, config_path:
     fileio.write_text(folder / "design.resolved.yaml", resolved_yaml(evaluation.design))
     results.write_json(doc, folder / "results.json")
     fileio.write_text(folder / "results.csv", results.csv_text(doc))
+    if doc.get("tuning"):
+        d = evaluation.design
+        fileio.write_text(folder / "tuning.csv", chart_csv(doc["tuning"], d.radio.power,
+                                                           d.report.worst_case_power))
     save_swr_png(evaluation, folder / "swr.png")
     report_doc = {**report_doc, "config_sha256": sha}
     write_report_inputs(evaluation, report_doc, folder)

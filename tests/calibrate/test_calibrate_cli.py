@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import pytest
@@ -67,7 +68,11 @@ def test_tolerance_prints_yield_and_repeats(tmp_path, capsys):
     assert main(argv) == 0
     first = capsys.readouterr().out
     assert main(argv + ["--plot", str(tmp_path / "t.png")]) == 0
-    assert capsys.readouterr().out == first and '"yield"' in first
+    again = json.loads(capsys.readouterr().out)
+    assert again.pop("files") == {"plot": str(tmp_path / "t.png")}
+    first = json.loads(first)
+    assert first.pop("files") == {"plot": None}
+    assert again == first and "yield" in first["bands"][0]
 
 
 def _design_without(tmp_path, section):

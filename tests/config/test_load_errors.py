@@ -1,4 +1,5 @@
-"""Every bad design file gives ONE one-line ConfigError: file, line, field, what is wrong.
+"""Every bad design file gives ONE ConfigError: file, line, field, what is wrong, in one
+line, carrying the file's other problems (each one line too).
 
 The cases are data in ``bad_cases.py`` (the command-line tests reuse them).
 """
@@ -57,9 +58,14 @@ def test_text_loader_names_the_given_file(case: BadCase):
 def test_several_problems_are_counted(load_error):
     text = BASE.replace("span: 20 m", "span: 20").replace("height: 10 m", "height: ten")
     text = text.replace("region: 2", "region: 9")
-    exc, _ = load_error(text)
-    assert exc.message.endswith("(and 2 more problems)")
+    exc, path = load_error(text)
+    assert str(exc).endswith("(and 2 more problems)")
     assert exc.field == "region", "the first problem in schema order is reported"
+    # every problem is carried, at its own line and field, in file order
+    assert [(p.line, p.field) for p in exc.problems] == [
+        (2, "region"), (6, "antenna.span"), (7, "antenna.height")]
+    assert all(p.file == str(path) for p in exc.problems)
+    assert exc.lines()[1] == f"{path}:6: antenna.span: {exc.problems[1].message}"
 
 
 def test_misspelt_key_is_reported_before_the_missing_one(load_error):
@@ -67,7 +73,8 @@ def test_misspelt_key_is_reported_before_the_missing_one(load_error):
     exc, _ = load_error(BASE.replace("span: 20 m", "spam: 20 m"))
     assert exc.field == "antenna.spam"
     assert "did you mean 'span'?" in exc.message
-    assert "(and 1 more problem)" in exc.message
+    assert str(exc).endswith("(and 1 more problem)")
+    assert len(exc.problems) == 2
 
 
 def test_union_member_errors_merge_into_one(load_error):
@@ -87,7 +94,7 @@ def test_union_member_errors_merge_into_one(load_error):
     assert exc.field == "antenna.feed.wire"
     assert exc.line == 8
     assert "expected text or a whole number, got the number 1.5" in exc.message
-    assert "more problem" not in exc.message
+    assert "more problem" not in str(exc) and exc.problems == [exc]
 
 
 # ----------------------------------------------------------------------------

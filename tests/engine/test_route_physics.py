@@ -487,3 +487,51 @@ def test_segment_doubling_changes_little(make):
     i_f = np.abs(fine.common_mode.currents["entry"])
     assert np.all(i_c > 1e-3)           # a real common-mode current, not noise
     np.testing.assert_allclose(i_f, i_c, rtol=0.02)
+
+
+# ----------------------------------------------------------------------------
+# 9. The differential mode outside the engine against the engine's own line card
+
+
+def test_differential_mode_outside_the_engine_equals_the_engine_line_card():
+    # Basis: the engine's transmission-line card (NEC-2 user guide, TL card:
+    # an ideal line of Z0 and length between two segments, from memory), an
+    # independent implementation of the same ideal line.  A 20 m doublet in
+    # free space: (a) solved alone by PyNEC, its impedance carried through
+    # necflow's line two-port (lossless, Z0 = 450 ohm, velocity factor 1,
+    # 8 m); (b) one PyNEC deck in which the engine's line card joins the
+    # doublet's centre segment to a one-segment source wire far away.  Both
+    # are ideal lines, so they must agree to the deck's own precision (the
+    # source wire's tiny self-admittance): 0.5 %.
+    from necflow.feed.line import line_abcd
+    from necflow.feed.twoport import input_impedance
+
+    f = np.array([3.6e6, 7.1e6, 14.2e6])
+    z0, length = 450.0, 8.0
+
+    def deck(with_line: bool):
+        ctx = nec_context()
+        g = ctx.get_geometry()
+        g.wire(1, 41, -10.0, 0, 0, 10.0, 0, 0, 0.001, 1, 1)
+        if with_line:
+            g.wire(2, 1, 200.0, 0, 0, 200.0, 0, 0.02, 0.0001, 1, 1)
+        ctx.geometry_complete(0)
+        ctx.gn_card(-1, 0, 0, 0, 0, 0, 0, 0)
+        if with_line:
+            ctx.tl_card(1, 21, 2, 1, z0, length, 0, 0, 0, 0)
+            ctx.ex_card(0, 2, 1, 0, 1.0, 0, 0, 0, 0, 0)
+        else:
+            ctx.ex_card(0, 1, 21, 0, 1.0, 0, 0, 0, 0, 0)
+        out = []
+        for i, fi in enumerate(f):
+            ctx.fr_card(0, 1, fi / 1e6, 0)
+            ctx.xq_card(0)
+            out.append(complex(ctx.get_input_parameters(i).get_impedance()[0]))
+        return np.array(out)
+
+    z_antenna = deck(False)
+    beta = 2 * np.pi * f / 299792458.0
+    abcd = line_abcd(1j * beta, np.full(f.size, z0 + 0j), length)
+    z_ours = input_impedance(abcd, z_antenna)
+    z_card = deck(True)
+    np.testing.assert_allclose(z_ours, z_card, rtol=5e-3)

@@ -508,12 +508,13 @@ case("fit-csv-negative-return-loss", "7", ["fit", D, "meas.csv", "--out", "fit"]
 _cswr = CSV.replace("14.2,1.3", "14.2,0.5")
 case("fit-csv-swr-below-1", "7", ["fit", D, "meas.csv", "--out", "fit"],
      {D: FIT, "meas.csv": _cswr}, W(None, line_of(_cswr, "14.2,0.5"), file="meas.csv"))
-case("evaluate-study-nonexistent", "7", ["evaluate", D, "--out", "run", "--study",
-                                         "/nonexistent"], {D: BASE}, opt("--study"))
-case("evaluate-study-is-a-file", "7", ["evaluate", D, "--out", "run", "--study", D],
-     {D: BASE}, opt("--study"))
-case("evaluate-study-empty-folder", "7", ["evaluate", D, "--out", "run", "--study", "empty"],
-     {D: BASE, "empty": directory}, opt("--study"))
+case("evaluate-study-nonexistent", "7", ["evaluate", D, "--out", "run", "--compare-study",
+                                         "/nonexistent"], {D: BASE}, opt("--compare-study"))
+case("evaluate-study-is-a-file", "7", ["evaluate", D, "--out", "run", "--compare-study", D],
+     {D: BASE}, opt("--compare-study"))
+case("evaluate-study-empty-folder", "7", ["evaluate", D, "--out", "run", "--compare-study",
+                                          "empty"], {D: BASE, "empty": directory},
+     opt("--compare-study"))
 for _s in ("0", "-1"):
     case(f"fit-starts-{_s}", "7", ["fit", D, "meas.s1p", "--out", "fit", "--starts", _s],
          {D: FIT, "meas.s1p": TOUCHSTONE}, opt("--starts"))

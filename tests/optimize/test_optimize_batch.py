@@ -36,8 +36,9 @@ def test_evaluate_cells_summary_and_skip(tmp_path):
     spec, summaries, skipped, _ = run_batch(path, out, solver=dipole_like_solver)
     assert skipped == [] and len(summaries) == 4
     rows = list(csv.DictReader(open(out / "summary.csv")))
-    assert [(r["antenna.height"], r["feed.coax.length"]) for r in rows] == [
-        ("8 m", "20 m"), ("8 m", "40 m"), ("12 m", "20 m"), ("12 m", "40 m")]
+    # quantities as numbers, the unit in the header
+    assert [(float(r["antenna.height [m]"]), float(r["feed.coax.length [m]"])) for r in rows] \
+        == [(8.0, 20.0), (8.0, 40.0), (12.0, 20.0), (12.0, 40.0)]
     # a longer coax run dissipates more: the loss term must rise with it
     assert float(rows[1]["loss_db"]) > float(rows[0]["loss_db"])
     assert (out / "summary.png").stat().st_size > 0

@@ -121,3 +121,25 @@ def test_horizontal_extent_of_an_inverted_v():
                antenna={"shape": "inverted-v", "leg": 10.0, "apex_height": 12.0,
                         "end_height": 6.0})
     assert horizontal_extent(d) == pytest.approx(16.0, rel=REL)
+
+
+def test_unmatched_points_add_their_weight_by_hand():
+    # A tuner that cannot match at the second point of band 0: that point's
+    # cost gains u = 10 (cost.unmatched_weight); SWR and loss as given (the
+    # chain's SWR at the radio through the tuner and its total loss).
+    from necflow.analysis.powerflow import RelayStress
+    ev = _evaluation([1.0, 1.0, 1.0, 1.0], [0.5, 1.5, 2.0, 4.0], [0, 0, 1, 1], [1.0, 1.0])
+    net = SimpleNamespace(can_match=np.array([True, False, True, False]))
+    ev.system.tuners = {"t": net}
+    # the tuner is switched out on the last point: its "cannot match" there
+    # does not count (it is not in circuit)
+    ev.system.relays = {"t": RelayStress("t", np.array([0, 0, 0, 1], bool),
+                                         np.array([0, 0, 0, 1], bool), None, None, 2)}
+    sc = score(ev, CostSpec(swr_softness=0.01, unmatched_weight=10.0))
+    tiny = 0.01 * math.log1p(math.exp(-100.0))
+    assert sc.bands["b0"]["cost"] == pytest.approx((0.5 + 1.5 + 10.0) / 2 + tiny, rel=1e-12)
+    assert sc.bands["b1"]["cost"] == pytest.approx((2.0 + 4.0) / 2 + tiny, rel=1e-12)
+    assert sc.cost == pytest.approx((6.0 + 3.0) / 2 + tiny, rel=1e-12)
+    # weight 0 leaves the cost as without the term
+    assert score(ev, CostSpec(swr_softness=0.01, unmatched_weight=0.0)).bands["b0"]["cost"] \
+        == pytest.approx(1.0 + tiny, rel=1e-12)

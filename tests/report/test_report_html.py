@@ -106,8 +106,8 @@ def test_report_is_self_contained_escaped_and_small(run):
 def test_alternatives_and_stress_table_of_the_demo(run):
     data = json.loads((run / "report_data.json").read_text())
     names = [a["name"] for a in data["alternatives"]]
-    assert names[:4] == ["as designed", "without series parts", "matching unit at the radio",
-                         "matching unit at the feedpoint"]
+    assert names[:5] == ["as designed", "without series parts", "shack tuner",
+                         "shack tuner without series parts", "remote tuner at the feedpoint"]
     assert HOSTILE in names and "optimised" in names
     html = (run / "report.html").read_text(encoding="utf-8")
     assert "peak V at 100 W" in html and "peak V at 1500 W" in html

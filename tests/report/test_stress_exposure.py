@@ -100,13 +100,14 @@ def test_system_gain_is_antenna_gain_less_total_loss():
 
 def test_alternatives_keep_power_bookkeeping():
     # Each alternative's budget adds up (design.md: mismatch + elements = total)
-    # and the matching unit at the radio brings SWR to 1 where it can match.
-    d = _design(tuner={"max_swr": 100}, alternatives=[{"name": "coax only", "tuner": "radio",
+    # and the shack tuner brings SWR to 1 where it can match.
+    d = _design(tuner={"capacitor_max": "500 pF", "inductor_max": "40 uH"},
+                alternatives=[{"name": "coax only", "tuner": "radio",
                                "feed": [{"id": "run", "line": "rg-213", "length": "30 m"}]}])
     alts = standard_alternatives(d, F, Z_FEED, build_chain(d.feed))
-    assert [a.name for a in alts] == ["as designed", "without series parts",
-                                      "matching unit at the radio",
-                                      "matching unit at the feedpoint", "coax only"]
+    assert [a.name for a in alts] == ["as designed", "without series parts", "shack tuner",
+                                      "shack tuner without series parts",
+                                      "remote tuner at the feedpoint", "coax only"]
     for a in alts:
         s = a.system
         parts = sum(v for k, v in s.loss_db.items() if k != "total")
@@ -118,6 +119,7 @@ def test_alternatives_keep_power_bookkeeping():
     assert ok.any()
     np.testing.assert_allclose(radio.system.swr[ok], 1.0, atol=1e-6)
     assert "cap" not in alts[1].system.element_ids
+    assert "cap" in alts[2].system.element_ids and "cap" not in alts[3].system.element_ids
 
 
 def _doublet_80m(**tuner):
@@ -135,17 +137,16 @@ Z80 = np.array([45 - 120j, 62 - 15j, 85 + 95j])
 
 
 def test_remote_unit_drives_one_run_of_the_designs_coax():
-    """A matching unit at the feedpoint replaces the balanced section and the
-    balun: the unit, then the design's coax type over the total run."""
+    """A tuner at the feedpoint replaces the balanced section and the
+    balun: the tuner, then the design's coax type over the total run."""
     d = _doublet_80m()
     alts = {a.name: a for a in standard_alternatives(d, F80, Z80, build_chain(d.feed))}
-    remote = alts["matching unit at the feedpoint"]
-    assert remote.system.element_ids == ("matching unit", "coax")
-    assert remote.chain.startswith("antenna -> matching unit: lossy L-network")
+    remote = alts["remote tuner at the feedpoint"]
+    assert remote.system.element_ids == ("added tuner", "coax")
+    assert remote.chain.startswith("antenna -> added tuner: high-pass T tuner")
     assert remote.chain.endswith(" -> coax: rg-8x (unbalanced), 45 m -> radio")
-    # No series part in this design: no 'without series parts' row.
-    assert list(alts) == ["as designed", "matching unit at the radio",
-                          "matching unit at the feedpoint"]
+    # No series part in this design: no 'without series parts' rows.
+    assert list(alts) == ["as designed", "shack tuner", "remote tuner at the feedpoint"]
 
 
 def test_remote_unit_run_can_be_configured():
@@ -157,7 +158,7 @@ def test_remote_unit_run_can_be_configured():
 
 
 def test_remote_unit_loses_less_than_the_design_on_80m():
-    """The unit presents 50 ohm to the coax, so the coax runs matched: its
+    """The tuner presents 50 ohm to the coax, so the coax runs matched: its
     loss is the catalog's matched loss, alpha_dB/m = k1 sqrt(f) + k2 f
     times 45 m (ARRL Handbook coax table, from memory, is where the catalog
     figures come from; the 2 % allows the complex Zc of the coax at 3.5 MHz,
@@ -166,7 +167,7 @@ def test_remote_unit_loses_less_than_the_design_on_80m():
     radio; the remote unit's total must be lower at every point."""
     d = _doublet_80m()
     alts = {a.name: a for a in standard_alternatives(d, F80, Z80, build_chain(d.feed))}
-    remote, designed = alts["matching unit at the feedpoint"], alts["as designed"]
+    remote, designed = alts["remote tuner at the feedpoint"], alts["as designed"]
     # RG-8X, 1.0 dB / 100 ft at 10 MHz and 2.0 at 30 MHz (from memory of the
     # ARRL Handbook coax table, shared/references.md): solve the two-point
     # model dB/100ft = a sqrt(f) + b f here, then scale to 45 m.

@@ -6,7 +6,12 @@ total loss ``T_i`` in dB between the radio and the feed point (mismatch at
 the radio plus every element's dissipation)::
 
     swr_term_i  = w * ln(1 + exp((min(s_i, 1000) - L) / w))   # softplus
-    point_i     = a * swr_term_i + b * T_i                     # a = swr_weight, b = loss_weight
+    point_i     = a * swr_term_i + b * T_i + u * N_i          # a = swr_weight, b = loss_weight
+
+With a tuner in the chain ``s_i`` is the SWR the radio sees through it and
+``T_i`` includes its loss (both follow from the chain); ``N_i`` is 1 where a
+tuner in circuit cannot match its load within its parts' ranges, else 0,
+and ``u`` is ``cost.unmatched_weight``.
 
 Per band the mean over its points (they are evenly spaced); over bands
 either the weighted mean ``sum(W_k C_k) / sum(W_k)`` with the band weights
@@ -23,6 +28,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from necflow.analysis.powerflow import unmatched
 from necflow.chain import Chain
 from necflow.model import geometry
 
@@ -148,7 +154,7 @@ class ArrayScores:
 
 
 def score_arrays(swr, loss_db, band_index, weights, limit: float, spec,
-                 common_mode_a=None) -> ArrayScores:
+                 common_mode_a=None, unmatched=None) -> ArrayScores:
     """The cost of each variant (see the README section "Cost").
 
     ``point_i = a * swr_term_i + b * T_i`` with ``swr_term`` the smooth
@@ -172,6 +178,9 @@ def score_arrays(swr, loss_db, band_index, weights, limit: float, spec,
         ``(nvar, nfreq)`` RMS common-mode current at the station entry [A]
         (with a route); adds ``c * |I|`` per point, ``c`` the spec's
         ``common_mode_weight``.
+    unmatched : array_like of bool, optional
+        ``(nvar, nfreq)`` or ``(nfreq,)``: where a tuner in the chain
+        cannot match; adds ``u`` (``unmatched_weight``) per such point.
     """
     swr = np.atleast_2d(np.asarray(swr, dtype=float))
     total = np.atleast_2d(np.asarray(loss_db, dtype=float))
@@ -181,6 +190,8 @@ def score_arrays(swr, loss_db, band_index, weights, limit: float, spec,
         raise ValueError("every band has weight 0; give at least one band a positive weight")
     pen = swr_penalty(swr, limit, spec.swr_softness)
     point = spec.swr_weight * pen + spec.loss_weight * total
+    if unmatched is not None and spec.unmatched_weight:
+        point = point + spec.unmatched_weight * np.atleast_2d(unmatched).astype(float)
     if common_mode_a is not None and spec.common_mode_weight:
         point = point + spec.common_mode_weight * np.abs(np.atleast_2d(common_mode_a))
     sel = [band_index == k for k in range(w.size)]
@@ -214,7 +225,8 @@ def score(evaluation, spec) -> Score:
     entry = None if cm is None else cm.currents.get("entry")
     a = score_arrays(evaluation.system.swr, evaluation.system.loss_db["total"],
                      evaluation.band_index, [b.weight for b in evaluation.bands],
-                     d.goal.swr_limit, spec, common_mode_a=entry)
+                     d.goal.swr_limit, spec, common_mode_a=entry,
+                     unmatched=unmatched(evaluation.system))
     return score_from_arrays(a, 0, evaluation.bands, spec,
                              horizontal_extent(d) if "span" in spec.objectives else None)
 

@@ -27,7 +27,8 @@ from necflow.optimize.problem.cost import score_arrays
 CHUNK = 4096
 
 
-def batch_cost(swr, loss_db, band_index, weights, limit: float, spec) -> np.ndarray:
+def batch_cost(swr, loss_db, band_index, weights, limit: float, spec,
+               unmatched=None) -> np.ndarray:
     """The combined cost of each variant, as :func:`necflow.optimize.cost.score`.
 
     Parameters
@@ -42,13 +43,16 @@ def batch_cost(swr, loss_db, band_index, weights, limit: float, spec) -> np.ndar
         SWR limit [-].
     spec : CostSpec
         ``design.cost``.
+    unmatched : ndarray of bool, optional
+        ``(nvar, nfreq)``: where a tuner cannot match.
 
     Returns
     -------
     ndarray
         ``(nvar,)`` cost.
     """
-    return score_arrays(swr, loss_db, band_index, weights, limit, spec).cost
+    return score_arrays(swr, loss_db, band_index, weights, limit, spec,
+                        unmatched=unmatched).cost
 
 
 def _grid(p) -> np.ndarray | None:
@@ -92,7 +96,7 @@ class FeedSearch:
         self.f, self.band_index = np.asarray(f, dtype=float), np.asarray(band_index)
         self.weights = np.array([b.weight for b in bands], dtype=float)
         self.fields = [tuple(p.path.split(".")[1:3]) for p in self.params]
-        chain = build_chain(design.feed, r_radio=design.radio.impedance)
+        chain = build_chain(design.feed, r_radio=design.radio.impedance, bands=bands)
         self.batch = FeedBatch(chain, self.f, self.fields)
 
     def costs(self, z_feedpoint, values: dict[str, np.ndarray]) -> np.ndarray:
@@ -105,7 +109,7 @@ class FeedSearch:
                      for p, fld in zip(self.params, self.fields)}
             r = self.batch.response(chunk, z_feedpoint, z_ref=d.radio.impedance)
             out[s:s + CHUNK] = batch_cost(r.swr, r.loss_db, self.band_index, self.weights,
-                                          d.goal.swr_limit, d.cost)
+                                          d.goal.swr_limit, d.cost, r.unmatched)
         return out
 
     def _decode(self, u: np.ndarray) -> dict[str, np.ndarray]:
