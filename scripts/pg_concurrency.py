@@ -24,7 +24,8 @@ Usage::
         [--commands 4] [--workers 2] [--trials 80] [--repetitions 10]
 
 The design is a tiny doublet whose antenna is solved once per command
-(feed-only search), so the trials are fast and the run is about the study
+(feed-only search, run with ``--method trials``: the nested method would make
+it one trial), so the trials are fast and the run is about the study
 mechanics.  Exit status 0 when every repetition passed, 1 otherwise.
 """
 
@@ -198,7 +199,7 @@ def run_repetition(index: int, url: str, password: str | None, folder: Path, *,
             procs.append(subprocess.Popen(
                 [sys.executable, str(launcher), "optimize", str(design), "--storage", place,
                  "--study", study, "--workers", str(workers), "--trials", str(trials),
-                 "--out", str(folder / f"command-{i}")],
+                 "--method", "trials", "--out", str(folder / f"command-{i}")],
                 cwd=folder, env=env, stdout=log, stderr=subprocess.STDOUT,
                 stdin=subprocess.DEVNULL))
         codes = []

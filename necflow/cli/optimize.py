@@ -11,6 +11,7 @@ import dataclasses
 import os
 import re
 import sys
+from dataclasses import replace
 from pathlib import Path
 from typing import TextIO
 
@@ -32,6 +33,7 @@ from necflow.optimize.strategy.study import (
     StudyOptions,
     counted_trials,
     parse_duration,
+    resolve_method,
     run_study,
 )
 from necflow.report import run_folder
@@ -114,9 +116,12 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
     optuna.logging.set_verbosity(optuna.logging.WARNING)
     started = run_folder.now_utc()
     design, space = load_study_design(args.design)
-    method = getattr(args, "method", "trials")
+    method = getattr(args, "method", "nested")
     check_method(design, method)  # before any storage is opened
-    opts = options_from_args(args, design)
+    opts, notes = resolve_method(design, space, replace(options_from_args(args, design),
+                                                        method=method))
+    for note in notes:
+        say(note)
     study, shown = run.open_search(design, space, opts)  # storage and resume checks first
     why = "report only"
     if not args.report_only:

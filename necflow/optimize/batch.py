@@ -39,6 +39,7 @@ from necflow.optimize.outputs import write_outputs
 from necflow.optimize.problem.cost import score_design
 from necflow.optimize.problem.space import build_space
 from necflow.optimize.storage.backends import describe
+from necflow.optimize.storage.bookkeeping import trial_values
 from necflow.optimize.strategy.study import StudyOptions, run_study
 from necflow.report import plots
 
@@ -200,7 +201,7 @@ def run_cell(spec: BatchSpec, cid: str, over: dict, text: str, folder: Path,
                             solver=solver)
         evaluation, sc = score_design(res.best_design, ResponseCache(solver))
         summary["best_trial"] = res.best_trial.number
-        summary["best_params"] = res.best_trial.params
+        summary["best_params"] = trial_values(res.best_trial)
     summary.update({"cost": sc.cost, "worst_swr": sc.worst_swr, "loss_db": sc.loss_db,
                     "bands": sc.bands})
     fileio.write_json(folder / "cell.json", summary)

@@ -28,6 +28,7 @@ from necflow.errors import NecflowError
 from necflow.optimize.problem.cost import score
 from necflow.optimize.problem.robust import robust_plan, robust_score
 from necflow.optimize.storage.backends import redact_url
+from necflow.optimize.storage.bookkeeping import trial_values
 from necflow.report import run_folder
 from necflow.report.tables import band_table
 from necflow.units import _DISPLAY
@@ -99,8 +100,9 @@ def leaderboard_csv(study, space, objectives) -> str:
     w.writerow(head)
     for rank, t in enumerate(rows, 1):
         row = [rank, t.number] + [f"{v:.6g}" for v in t.values]
+        searched = trial_values(t)
         for p in space.params:
-            v = t.params.get(p.path)
+            v = searched.get(p.path)
             if p.dimension and isinstance(v, float):
                 v = units.format_quantity(v, p.dimension).split()[0]
             row.append(v)
@@ -159,8 +161,9 @@ def write_outputs(study, design, space, out: Path, *, storage_shown: str,
     started = run_folder.now_utc()
     out.mkdir(parents=True, exist_ok=True)
     trial = best_trial(study)
-    values = {p.path: p.buildable(trial.params[p.path]) for p in space.params
-              if p.path in trial.params}
+    searched = trial_values(trial)
+    values = {p.path: p.buildable(searched[p.path]) for p in space.params
+              if p.path in searched}
     chain = Chain(apply(design, values), solver)
     variant, evaluation = chain.design, chain.evaluation
     objective = objective_as_written(design, variant, evaluation, chain.responses)

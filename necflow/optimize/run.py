@@ -24,6 +24,7 @@ from necflow.engine.response import ResponseCache
 from necflow.optimize.outputs import StudyOutputs, write_outputs
 from necflow.optimize.problem.cost import score
 from necflow.optimize.storage.backends import describe, redact_url
+from necflow.optimize.storage.bookkeeping import FEED
 from necflow.optimize.strategy.split import SplitResult, split_search
 from necflow.optimize.strategy.study import StudyOptions, counted_trials, open_study
 from necflow.report import run_folder
@@ -105,9 +106,11 @@ def run_split(design, space, options: StudyOptions, study, *, solver=None,
 
 
 def start_trial(study) -> FrozenTrial | None:
-    """The queued starting design's trial, if it completed."""
+    """The queued starting design's trial, if it completed (a nested study
+    has none: its first trial is the starting geometry with its feed
+    searched, not the design as written)."""
     for t in study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,)):
-        if t.user_attrs.get("necflow.start"):
+        if t.user_attrs.get("necflow.start") and FEED not in t.user_attrs:
             return t
     return None
 

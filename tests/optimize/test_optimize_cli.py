@@ -1,5 +1,6 @@
-"""``necflow optimize`` as a user runs it: one-line input errors, a study
-killed with SIGKILL twice and resumed, a clean stop on SIGINT."""
+"""``necflow optimize`` as a user runs it: one-line input errors, a study of
+the trials method killed with SIGKILL twice and resumed (the nested method's
+is in test_nested.py), a clean stop on SIGINT (the default method)."""
 
 from __future__ import annotations
 
@@ -80,12 +81,12 @@ def _journal_study(run):
     return optuna.load_study(study_name="study-mechanics", storage=storage)
 
 
-def _start(tmp_path, design, trials):
+def _start(tmp_path, design, trials, *extra):
     script = tmp_path / "run_necflow.py"
     script.write_text(CLI_SCRIPT)
     return subprocess.Popen([sys.executable, str(script), "optimize", str(design),
                              "--trials", str(trials), "--seed", "5",
-                             "--out", str(tmp_path / "run")],
+                             "--out", str(tmp_path / "run"), *extra],
                             env=cli_env(), stdout=subprocess.DEVNULL,
                             stderr=subprocess.PIPE, text=True)
 
@@ -112,7 +113,7 @@ def test_sigkill_twice_then_resume_keeps_every_finished_trial(tmp_path):
     rng = random.Random(20261202)          # seeded: the kill moments are reproducible
     kept: dict[int, float] = {}
     for _ in range(2):
-        proc = _start(tmp_path, design, 100000)
+        proc = _start(tmp_path, design, 100000, "--method", "trials")
         _wait_for_complete(proc, run, len(kept) + 3)
         time.sleep(rng.uniform(0.0, 0.4))  # a random moment inside the running study
         proc.send_signal(signal.SIGKILL)
@@ -123,7 +124,7 @@ def test_sigkill_twice_then_resume_keeps_every_finished_trial(tmp_path):
         assert kept.items() <= done.items(), "a finished trial was lost"
         kept = done
     target = len(kept) + len(_journal_study(run).get_trials(states=(TrialState.FAIL,))) + 4
-    proc = _start(tmp_path, design, target)
+    proc = _start(tmp_path, design, target, "--method", "trials")
     assert proc.wait(timeout=300) == 0, proc.stderr.read()
     proc.stderr.close()
     study = _journal_study(run)

@@ -35,7 +35,7 @@ def test_each_geometry_is_solved_once_and_the_study_improves(tmp_path):
     design, space = load_study_design(write_study(tmp_path, DESIGN))
     before = solve_count()
     study, _ = run_study(design, space, StudyOptions(out=tmp_path / "run", study_name="e",
-                                                     trials=12, seed=2))
+                                                     trials=12, seed=2, method="trials"))
     done = study.get_trials(states=(TrialState.COMPLETE,))
     spans = {t.params["antenna.span"] for t in done}
     # three points per geometry (one band of 3 points), each geometry solved once

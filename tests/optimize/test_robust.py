@@ -22,6 +22,7 @@ from necflow.errors import ConfigError
 from necflow.optimize.problem.cost import score
 from necflow.optimize.problem.robust import check_method, robust_cost, robust_plan, robust_score
 from necflow.optimize.problem.space import load_study_design
+from necflow.optimize.storage.bookkeeping import trial_values
 from necflow.optimize.strategy.study import StudyOptions, run_study
 from tests.conftest import dipole_like_solver
 from tests.optimize.helpers import STUDY, write_study
@@ -157,7 +158,7 @@ def test_study_uses_the_same_cases_around_each_trial(tmp_path):
         assert r["nominal_cost"] == t.user_attrs["necflow.terms"]["cost"]
         # the worst case index names the same draw in every trial: its
         # recorded values are that draw applied to this trial's values
-        variant = apply(d, t.params)
+        variant = apply(d, trial_values(t))   # the nested method's feed included
         expect = _by_hand(variant, plan.cases[r["worst_case"]])
         for path in expect:
             assert r["worst_case_values"][path] == pytest.approx(expect[path], rel=1e-12)

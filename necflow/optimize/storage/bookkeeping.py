@@ -38,6 +38,9 @@ COUNTED = "necflow.counted"
 DISCARDED = "necflow.discarded"   # studies of earlier versions: started over the budget, not run
 HOST = "necflow.host"
 PID = "necflow.pid"
+#: The feed values the nested method's inner search chose for a trial (SI, by path); the
+#: optuna sampler sees only the geometry, so ``trial.params`` holds the geometry alone.
+FEED = "necflow.feed"
 
 
 def _states():
@@ -49,6 +52,12 @@ def counted_trials(study) -> list:
     S = _states()
     return [t for t in study.get_trials(deepcopy=False, states=(S.COMPLETE, S.FAIL))
             if t.state == S.COMPLETE or t.user_attrs.get(COUNTED)]
+
+
+def trial_values(trial) -> dict:
+    """Every searched value of a trial: its sampled ``params`` and, with the
+    nested method, the feed values of its inner search (:data:`FEED`)."""
+    return {**trial.params, **trial.user_attrs.get(FEED, {})}
 
 
 def _alive(pid: int) -> bool:

@@ -22,6 +22,26 @@ Overnight safety:
   the worker; outside a trial they stop it before the next one;
 * a trial left RUNNING by a killed process is failed on the next start
   (journal storage: its process is gone; RDB storage: its heartbeat stopped).
+
+Methods (``StudyOptions.method``, recorded in the study's user attribute
+``necflow.method``; a study is resumed only with the method it began with):
+
+* ``nested`` (the default): the sampler sees only the geometry fields
+  (``Param.geometry``: those that need a solve); inside each trial the feed
+  fields are found for that geometry's antenna response by the vectorised
+  inner search (:class:`necflow.optimize.strategy.inner.FeedSearch`, no
+  solve), minimising the combined ``cost`` (with several objectives too: the
+  documented scalarisation), and the trial's design, geometry plus best feed,
+  is evaluated and scored as in the trials method (robust scoring included).
+  The feed values go to the trial's user attribute ``necflow.feed``
+  (:func:`necflow.optimize.storage.bookkeeping.trial_values` merges them
+  with ``trial.params``).  A design with a ``route`` (the feed line in the
+  engine model: feed fields that move the line are geometry, and the
+  common-mode terms depend on the feed), a search with no feed field, or a
+  feed field the batch cannot vary runs as ``trials``; a search of feed
+  fields only has one geometry and is one trial;
+* ``trials``: the sampler draws every field;
+* ``split``: see :mod:`necflow.optimize.strategy.split` (one recorded trial).
 """
 
 from __future__ import annotations
@@ -55,17 +75,24 @@ from necflow.optimize.storage.bookkeeping import (
     COUNTED,
     DISCARDED,
     FAIL_REASON,
+    FEED,
     counted_trials,
     fail_orphans,
     take_slot,
 )
+from necflow.optimize.strategy.inner import FeedSearch
 
-__all__ = ["COUNTED", "DISCARDED", "FAIL_REASON", "Interrupted", "StudyOptions",
-           "TrialFailure", "begin_session", "counted_trials", "enqueue_start", "fail_orphans",
-           "lock_of", "open_study", "parse_duration", "run_study", "run_trial", "worker_loop",
+__all__ = ["COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "METHODS", "Interrupted",
+           "StudyOptions", "TrialFailure", "begin_session", "counted_trials", "enqueue_start",
+           "fail_orphans", "feed_search", "guard_method", "lock_of", "open_study",
+           "parse_duration", "resolve_method", "run_study", "run_trial", "worker_loop",
            "worker_seeds"]
 
 SESSIONS = "necflow.sessions"
+METHOD = "necflow.method"
+METHODS = ("nested", "trials", "split")
+#: Feed variants scored by the inner search of each nested trial.
+INNER_VARIANTS = 20000
 WAIT_S = 0.5          # a worker whose budget places are all held polls this often
 
 
@@ -82,6 +109,7 @@ class StudyOptions:
     seed: int | None = None      # as given; each worker's sampler seed is drawn from it
     cache: bool = True           # keep solves in <out>/solves.sqlite for every worker and run
     storage_password_env: str | None = None   # environment variable holding the password
+    method: str = "nested"       # nested | trials | split (see the module notes)
 
 
 def parse_duration(text: str) -> float:
@@ -113,6 +141,81 @@ class Interrupted(KeyboardInterrupt):
 
 
 # ----------------------------------------------------------------------------
+# The method
+
+
+def feed_search(design, space) -> FeedSearch:
+    """The inner search over the space's feed fields for ``design``'s bands.
+
+    Raises
+    ------
+    ValueError
+        For a feed field the batch cannot vary.
+    """
+    chain = Chain(design)      # bands and frequencies only: nothing is solved here
+    return FeedSearch(design, [p for p in space.params if not p.geometry],
+                      chain.frequency_hz, chain.band_index, chain.bands)
+
+
+def resolve_method(design, space, options: StudyOptions) -> tuple[StudyOptions, list[str]]:
+    """The options a study runs with, and notes for the user on what changed.
+
+    The nested method runs as the trials method with a ``route`` in the
+    design, with no feed field searched, or with a feed field the inner
+    search cannot vary; with only feed fields searched it has one geometry,
+    so its budget becomes one trial.  Idempotent.
+    """
+    if options.method != "nested":
+        return options, []
+    geo = [p for p in space.params if p.geometry]
+    feed = [p for p in space.params if not p.geometry]
+    why = None
+    if design.route is not None:
+        why = ("the design has a route (its feed line is part of the engine model, and the "
+               "common-mode terms depend on the feed)")
+    elif not feed:
+        return replace(options, method="trials"), []   # the same search: nothing to nest
+    else:
+        try:
+            feed_search(design, space)
+        except ValueError as exc:
+            why = str(exc)
+    if why is not None:
+        return replace(options, method="trials"), [
+            f"{why}: the nested method runs as the trials method (every field sampled)"]
+    notes = []
+    if not geo and options.trials != 1:
+        notes.append("only feed fields are searched, so there is one geometry: the nested "
+                     "study is one trial (the budget becomes 1)")
+        options = replace(options, trials=1)
+    return options, notes
+
+
+def guard_method(study, method: str) -> None:
+    """Record the study's method; refuse to resume it with another one.
+
+    A study of an earlier version without the record is a ``split`` study if
+    its trial says so, else a ``trials`` study.
+
+    Raises
+    ------
+    ConfigError
+        Naming --method.
+    """
+    recorded = study.user_attrs.get(METHOD)
+    if recorded is None:
+        trials = study.get_trials(deepcopy=False)
+        if trials:
+            recorded = "split" if any(t.user_attrs.get(METHOD) == "split" for t in trials) \
+                else "trials"
+        study.set_user_attr(METHOD, recorded or method)
+    if recorded is not None and recorded != method:
+        raise ConfigError(f"study '{study.study_name}' was begun with --method {recorded}; "
+                          f"resume it with --method {recorded}, or use a new --study name or "
+                          "--out folder to start afresh", field="--method")
+
+
+# ----------------------------------------------------------------------------
 # Opening a study
 
 
@@ -141,13 +244,13 @@ def lock_of(study, options: StudyOptions):
 
 
 def open_study(design, space, options: StudyOptions):
-    """Create or load the study and check it matches this design and space.
+    """Create or load the study and check it matches this design, space and
+    method (:func:`resolve_method`).
 
     The study is created or loaded under the study lock, so several
     processes and machines may do it at the same moment.
     """
-
-
+    options, _ = resolve_method(design, space, options)
     robust_plan(design, space)  # a robust setting that cannot work fails before any trial
     storage = open_storage(options.storage, options.out, options.storage_password_env)
     n_obj = len(design.cost.objectives)
@@ -161,6 +264,7 @@ def open_study(design, space, options: StudyOptions):
             raise ConfigError(f"study '{options.study_name}' cannot be resumed: {exc}",
                               field="cost.objectives") from None
         guard_resume(study, design, space)
+        guard_method(study, options.method)
     return study
 
 
@@ -172,13 +276,16 @@ def begin_session(study) -> int:
     return n
 
 
-def enqueue_start(study, design, space) -> bool:
-    """Queue the starting design as the first trial of a new study."""
+def enqueue_start(study, design, space, *, nested: bool = False) -> bool:
+    """Queue the starting design as the first trial of a new study (with
+    ``nested``, its geometry: the trial's inner search finds its feed)."""
 
     if study.get_trials(deepcopy=False):
         return False
     values = {}
     for p in space.params:
+        if nested and not p.geometry:
+            continue
         owner, name = locate(design, p.path)
         v = getattr(owner, name)
         if p.choices is not None:
@@ -198,20 +305,38 @@ def enqueue_start(study, design, space) -> bool:
 # One trial
 
 
-def run_trial(trial, base: Chain, space, robust=None) -> tuple[float, ...]:
+def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = None,
+              seed: int = 0) -> tuple[float, ...]:
     """Suggest, build, check, evaluate and score one variant of ``base``'s
     design (over the cases of ``robust``, a
     :class:`~necflow.optimize.robust.RobustPlan`, if given).  A variant that
     changes only feed fields shares the base chain's antenna response.
+
+    With ``feed`` (the nested method) the trial suggests the geometry fields
+    only; the feed fields are those of ``feed.search`` on the geometry's
+    antenna response (seeded with ``seed``, the same in every worker, so the
+    trial's outcome is a function of its geometry alone), recorded in the user attribute
+    ``necflow.feed``; the design of both is then evaluated and scored.
 
     Raises
     ------
     TrialFailure
         With the reason, when the variant is invalid or cannot be evaluated.
     """
-    values = space.suggest(trial)
+    if feed is None:
+        values = space.suggest(trial)
+    else:
+        values = {p.path: p.suggest(trial) for p in space.params if p.geometry}
     try:
-        variant = base.variant(values)
+        if feed is None:
+            variant = base.variant(values)
+        else:
+            geometry = base.variant(values)
+            inner = feed.search(geometry.antenna, max_variants=INNER_VARIANTS, seed=seed)
+            trial.set_user_attr(FEED, inner.values)
+            trial.set_user_attr("necflow.inner", {"cost": inner.cost,
+                                                  "variants": inner.evaluated})
+            variant = geometry.variant(inner.values)
         if robust is None:
             sc = score(variant.evaluation, variant.design.cost)
             result = sc.values
@@ -275,8 +400,10 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
     """Run trials until the budget, the deadline or a signal; returns why it stopped."""
 
 
+    options, _ = resolve_method(design, space, options)
     study = study or open_study(design, space, options)
     robust = robust_plan(design, space)   # drawn once: the same cases for every trial
+    feed = feed_search(design, space) if options.method == "nested" else None
     store = None
     if options.cache:
         store = SolveStore(options.out)
@@ -307,7 +434,7 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
             state, values, reason = TrialState.FAIL, None, None
             try:
                 sig.in_trial = True
-                values = run_trial(trial, base, space, robust)
+                values = run_trial(trial, base, space, robust, feed)
                 sig.in_trial = False
                 state = TrialState.COMPLETE
             except TrialFailure as exc:
@@ -347,10 +474,11 @@ def run_study(design, space, options: StudyOptions, *, solver=None,
     Under the study lock the run takes its session number and, on a new
     study, queues the starting design as the first trial.
     """
+    options, _ = resolve_method(design, space, options)
     study = open_study(design, space, options)
     with lock_of(study, options):
         session = begin_session(study)
-        enqueue_start(study, design, space)
+        enqueue_start(study, design, space, nested=options.method == "nested")
     seeds = worker_seeds(options.seed, session, max(1, options.workers))
     study.sampler = make_sampler(seeds[0])
     deadline = None if options.timeout_s is None else time.time() + options.timeout_s
