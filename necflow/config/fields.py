@@ -54,6 +54,33 @@ def moves_wires(design: Design, path: str) -> bool:
 NUMERIC_PLAIN = {"permittivity", "q", "velocity_factor", "ratio", "loss", "weight"}
 
 
+def position_kind(owner: BaseModel, name: str) -> str | None:
+    """``"fraction"`` or ``"distance"`` for a position field (a feed or bend
+    position, stored as ``(kind, value)``) as the design gives it, else None.
+
+    A position is searched, fitted or trimmed in the form the design gives
+    it: a fraction of the wire as a plain number, a distance from the wire's
+    start as a length.
+    """
+    value = getattr(owner, name, None)
+    if isinstance(value, tuple) and len(value) == 2 and value[0] in ("fraction", "distance"):
+        return value[0]
+    return None
+
+
+def _fraction(raw: Any, what: str) -> float:
+    """A fraction of a wire: a plain number or a percentage ('33 %')."""
+    if isinstance(raw, str) and raw.strip().endswith("%"):
+        try:
+            return float(raw.strip()[:-1]) / 100.0
+        except ValueError:
+            raise ValueError(f"{what}: cannot read '{raw}' as a percentage") from None
+    if isinstance(raw, str):
+        raise ValueError(f"{what}: the design gives this position as a fraction of the wire, "
+                         f"so search it as one (0.3 or '30 %'), not '{raw}'")
+    return _number(raw, None, what)
+
+
 @dataclass(frozen=True)
 class Param:
     """One field with its range, in SI.
@@ -336,10 +363,22 @@ def param(design: Design, path: str, spec: SearchParam) -> Param:
             raise ValueError(f"unknown line type(s) {', '.join(map(str, bad))}; expected "
                              f"catalog names: {', '.join(LINE_TYPES)}")
         return Param(path, None, choices=tuple(spec.choices), geometry=False)
+    kind = position_kind(owner, name)
+    if kind is not None:
+        return _position_param(path, spec, kind, geometry)
     dimension = dimension_of(owner, name)
-    if dimension is None and name not in NUMERIC_PLAIN:
+    whole = type(owner).model_fields[name].annotation is int
+    if dimension is None and name not in NUMERIC_PLAIN and not whole:
         raise ValueError(f"'{path}' is not a numeric field that can be searched")
     limits = field_limits(owner, name)
+    if whole:                           # a count (a loop's sides): whole numbers only
+        vals = spec.choices if spec.choices is not None else [*spec.range, spec.step or 1]
+        if any(isinstance(v, bool) or not isinstance(v, (int, float)) or v != int(v)
+               for v in vals):
+            raise ValueError(f"'{path}' is a count: search it over whole numbers "
+                             "(a range's step, 1 by default, is whole too)")
+        if spec.choices is None and spec.step is None:
+            spec = spec.model_copy(update={"step": 1})
     if spec.choices is not None:
         vals = tuple(_number(c, dimension, "choice") for c in spec.choices)
         for v in vals:
@@ -362,6 +401,47 @@ def param(design: Design, path: str, spec: SearchParam) -> Param:
         if not 0 < step <= high - low:
             raise ValueError("the step must be positive and no larger than the range")
     return Param(path, dimension, low=low, high=high, log=log, step=step, geometry=geometry)
+
+
+def _position_param(path: str, spec: SearchParam, kind: str, geometry: bool) -> Param:
+    """The parameter of a position field: a fraction in (0, 1) when the
+    design gives a fraction, a length above 0 when it gives a distance (a
+    distance beyond its wire is refused per variant, as in a design)."""
+    if kind == "fraction":
+        dimension, limits = None, [("gt", 0.0), ("lt", 1.0)]
+
+        def read(raw, what):
+            return _fraction(raw, what)
+    else:
+        dimension, limits = "length", [("gt", 0.0)]
+
+        def read(raw, what):
+            try:
+                return _number(raw, "length", what)
+            except ValueError:
+                raise ValueError(f"{what}: the design gives this position as a distance from "
+                                 f"the wire's start, so search it as a length ('12 m'), not "
+                                 f"'{raw}'") from None
+    if spec.choices is not None:
+        vals = tuple(read(c, "choice") for c in spec.choices)
+        for v in vals:
+            check_limits(v, limits, dimension, "every choice")
+        if len(set(vals)) != len(vals):
+            raise ValueError("a value is listed twice in 'choices'")
+        return Param(path, dimension, choices=vals, geometry=geometry)
+    low, high = read(spec.range[0], "low bound"), read(spec.range[1], "high bound")
+    if not high > low:
+        raise ValueError("the range is empty or reversed; write [low, high] with low < high")
+    check_limits(low, limits, dimension, "the low bound")
+    check_limits(high, limits, dimension, "the high bound")
+    if spec.scale == "log":
+        raise ValueError("a position is searched on a linear scale")
+    step = None
+    if spec.step is not None:
+        step = read(spec.step, "step")
+        if not 0 < step <= high - low:
+            raise ValueError("the step must be positive and no larger than the range")
+    return Param(path, dimension, low=low, high=high, step=step, geometry=geometry)
 
 
 def ground_explicit(design: Design) -> Design:
@@ -435,6 +515,8 @@ def current_value(design: Design, path: str) -> Any:
     if isinstance(owner, SwitchSpec) and name not in type(owner).model_fields:
         return "out" if owner.is_out(name) else "in"
     value = getattr(owner, name)
+    if position_kind(owner, name) is not None:
+        return value[1]                 # a position: its fraction or distance
     if value is None and name in ("velocity_factor", "impedance") and hasattr(owner, "line"):
         lt = LINE_TYPES.get(owner.line)
         if lt is not None:
@@ -477,6 +559,10 @@ def apply(design: Design, values: dict[str, Any], *, keep_search: bool = False) 
             except ValueError as exc:
                 raise ConfigError(str(exc), field=path) from None
             continue
+        kind = position_kind(owner, name)
+        if kind is not None and isinstance(value, (int, float)) \
+                and not isinstance(value, bool):
+            value = (kind, float(value))    # a position keeps the design's form
         try:
             setattr(owner, name, value)
         except ValidationError as exc:
@@ -510,6 +596,6 @@ def set_values(design: Design, values: dict[str, Any]) -> Design:
 
 
 __all__ = ["to_unit", "from_unit", "unit_scale", "set_values", "Param", "ParamSet", "locate",
-           "dimension_of", "field_limits", "check_limits",
+           "dimension_of", "field_limits", "check_limits", "position_kind",
            "param", "ground_explicit", "build_params", "parse_range_option",
            "current_value", "apply", "GEOMETRY_ROOTS", "ROOTS"]

@@ -112,7 +112,13 @@ Diameter = Annotated[float, BeforeValidator(_to_diameter)]
 
 def _fraction_or_length(v: Any) -> float | tuple[str, float]:
     """A feed position: a plain fraction 0..1 of the wire, a percentage
-    (``"33 %"``) or a distance from the wire's start (``"9 m"``)."""
+    (``"33 %"``) or a distance from the wire's start (``"9 m"``); a value
+    already read, ``("fraction", x)`` or ``("distance", metres)``, is kept
+    (a searched value set on a copy of the design)."""
+    if isinstance(v, tuple) and len(v) == 2 and v[0] in ("fraction", "distance") \
+            and isinstance(v[1], (int, float)) and not isinstance(v[1], bool) \
+            and math.isfinite(v[1]):
+        return (v[0], float(v[1]))
     if isinstance(v, (int, float)) and not isinstance(v, bool):
         return ("fraction", float(v))
     if isinstance(v, str) and v.strip().endswith("%"):
@@ -1297,6 +1303,28 @@ class Route(Strict):
         return self
 
 
+class SiteLimits(Strict):
+    """What a site allows the antenna's wires (the route's feed line not
+    counted); a searched design outside them is recorded as infeasible,
+    never solved."""
+
+    min_height: Length | None = quantity("length", default=None, ge=0, le=500.0,
+                                         description="Lowest point of any wire at least this "
+                                         "high above ground (people walking under it, "
+                                         "animals, a lawnmower)")
+    max_height: Length | None = quantity("length", default=None, gt=0, le=500.0,
+                                         description="Highest point of any wire at most this "
+                                         "high (the mast or tree that holds it)")
+    max_span: Length | None = quantity("length", default=None, gt=0, le=5000.0,
+                                       description="Largest horizontal distance between two "
+                                       "wire ends at most this (the distance between the "
+                                       "supports, the plot's size)")
+
+    def stated(self) -> dict[str, float]:
+        """The limits given, by key."""
+        return {k: v for k in type(self).model_fields if (v := getattr(self, k)) is not None}
+
+
 class Design(Strict):
     """A complete antenna system: radiator, ground, feed chain and radio."""
 
@@ -1324,6 +1352,10 @@ class Design(Strict):
         "used by 'necflow optimize', ignored by 'evaluate'")
     cost: CostSpec = Field(default_factory=CostSpec, description="How 'necflow optimize' "
                            "scores a design")
+    constraints: SiteLimits | None = Field(
+        None, description="Limits a site sets on the wires (min_height, max_height, "
+        "max_span); 'necflow optimize' records a searched design outside them as infeasible "
+        "instead of solving it")
     uncertain: dict[str, SearchParam] = Field(
         default_factory=dict, description="Fields 'necflow fit' may adjust to match measured "
         "sweeps: field path (antenna.height, ground.conductivity, feed.<id>.velocity_factor, "

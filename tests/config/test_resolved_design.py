@@ -90,8 +90,9 @@ def test_round_trip_gives_an_equal_design(text):
 def test_resolved_design_has_every_default_and_every_unit():
     data = yaml.safe_load(resolved_yaml(load_design_text(BASE)))
     from necflow.config.schema import Design
-    # every top-level key in schema order; 'route' is optional (absent: the line is ideal)
-    assert list(data) == [k for k in Design.model_fields if k != "route"]
+    # every top-level key in schema order; 'route' is optional (absent: the line is ideal),
+    # and so is 'constraints' (absent: the site sets no limits)
+    assert list(data) == [k for k in Design.model_fields if k not in ("route", "constraints")]
     assert data["antenna"]["span"] == "20 m"
     assert data["antenna"]["wire"] == {"diameter": "2 mm", "material": "copper"}
     assert data["bands"][0] == {"name": "40m", "low": "7 MHz", "high": "7.3 MHz",

@@ -37,6 +37,7 @@ from scipy.stats import qmc
 from necflow.chain import Chain
 from necflow.chain.stages import prefetch
 from necflow.errors import ConfigError
+from necflow.optimize.problem.constraints import margins, violations
 from necflow.optimize.problem.cost import score
 from necflow.optimize.strategy.inner import FeedSearch, _grid, _item
 
@@ -160,6 +161,8 @@ def split_search(design, space, cache, *, max_geometries: int = 64, top_k: int =
         try:
             c = base.variant(g)
             _ = c.models                     # built (and checked) now
+            if violations(c.design, margins(c.design)):
+                continue                     # outside the site's constraints
         except Exception:   # an impossible corner of the space is skipped, not fatal
             continue
         cands.append(g)

@@ -64,10 +64,11 @@ import optuna
 from optuna.trial import TrialState
 
 from necflow.chain import Chain
-from necflow.config.fields import locate
+from necflow.config.fields import locate, position_kind
 from necflow.engine.cache import SolveStore
 from necflow.engine.response import ResponseCache
-from necflow.errors import ConfigError, NecflowError
+from necflow.errors import ConfigError, ModelError, NecflowError
+from necflow.optimize.problem.constraints import INFEASIBLE, margins, violations
 from necflow.optimize.problem.cost import score
 from necflow.optimize.problem.robust import robust_plan, robust_score
 from necflow.optimize.storage.backends import guard_resume, open_storage, study_lock
@@ -82,7 +83,7 @@ from necflow.optimize.storage.bookkeeping import (
 )
 from necflow.optimize.strategy.inner import FeedSearch
 
-__all__ = ["COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "METHODS", "Interrupted",
+__all__ = ["CONSTRAINTS", "COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "METHODS", "Interrupted",
            "StudyOptions", "TrialFailure", "begin_session", "counted_trials", "enqueue_start",
            "fail_orphans", "feed_search", "guard_method", "lock_of", "open_study",
            "parse_duration", "resolve_method", "run_study", "run_trial", "worker_loop",
@@ -90,6 +91,8 @@ __all__ = ["COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "METHODS", "Interrupte
 
 SESSIONS = "necflow.sessions"
 METHOD = "necflow.method"
+#: Trial user attribute: margin of each stated site constraint [m], > 0 broken.
+CONSTRAINTS = "necflow.constraints"
 METHODS = ("nested", "trials", "split")
 #: Feed variants scored by the inner search of each nested trial.
 INNER_VARIANTS = 20000
@@ -288,6 +291,8 @@ def enqueue_start(study, design, space, *, nested: bool = False) -> bool:
             continue
         owner, name = locate(design, p.path)
         v = getattr(owner, name)
+        if position_kind(owner, name) is not None:
+            v = v[1]                  # a position: its fraction or distance
         if p.choices is not None:
             if v not in p.choices:
                 return False
@@ -318,6 +323,11 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
     trial's outcome is a function of its geometry alone), recorded in the user attribute
     ``necflow.feed``; the design of both is then evaluated and scored.
 
+    A variant whose wires cannot be placed or modelled, or that breaks a
+    stated site constraint (the design's ``constraints``, whose margins go
+    to the user attribute ``necflow.constraints``), fails before any solve
+    with a reason starting ``infeasible:``.
+
     Raises
     ------
     TrialFailure
@@ -328,10 +338,23 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
     else:
         values = {p.path: p.suggest(trial) for p in space.params if p.geometry}
     try:
+        shaped = base.variant(values)
+    except (ConfigError, ModelError) as exc:   # wires that cannot be placed or modelled
+        raise TrialFailure(f"{INFEASIBLE}: {exc}") from None
+    try:
+        found = margins(shaped.design)
+    except (ConfigError, ModelError) as exc:
+        raise TrialFailure(f"{INFEASIBLE}: {exc}") from None
+    if found:
+        trial.set_user_attr(CONSTRAINTS, found)
+        broken = violations(shaped.design, found)
+        if broken:
+            raise TrialFailure(f"{INFEASIBLE}: {broken}")
+    try:
         if feed is None:
-            variant = base.variant(values)
+            variant = shaped
         else:
-            geometry = base.variant(values)
+            geometry = shaped
             inner = feed.search(geometry.antenna, max_variants=INNER_VARIANTS, seed=seed)
             trial.set_user_attr(FEED, inner.values)
             trial.set_user_attr("necflow.inner", {"cost": inner.cost,
