@@ -284,7 +284,7 @@ def main(argv=None) -> int:
     import warnings
 
     from necflow.errors import NecflowWarning
-    from necflow.optimize.problem.space import load_study_design
+    from necflow.optimize.problem.space import build_space, load_study_design
 
     warnings.simplefilter("ignore", NecflowWarning)
     t_start = time.perf_counter()
@@ -295,6 +295,7 @@ def main(argv=None) -> int:
     # the search measures below compare search methods on the antenna with an
     # ideal line (the split search does not take a route)
     design = design.model_copy(update={"route": None})
+    space = build_space(design)     # without the route the feed fields are feed fields again
     say("1/5 plain sweep of the demo design")
     sweep = sweep_overhead(Path(args.design))
     say("2/5 reference optimum (every geometry over Sommerfeld-Norton, every feed variant)")
