@@ -52,3 +52,27 @@ def demo_text_without_route() -> str:
     out, n = re.subn(r"(?m)^route:.*\n(?:[ #].*\n)*", "", text)
     assert n == 1, "the demo has one route block"
     return out
+
+
+#: A small design for the command-line tests with the stand-in solver (its
+#: feedpoint is series resonant at 7.1 MHz): a 40 m doublet with a 1:1 balun
+#: and coax, and the sections fit, trim and tolerance need.  Prefix it with
+#: a ``name:`` line.
+JOB_DESIGN_BODY = """
+bands:
+  - {name: 40m, points: 9}
+antenna: {shape: doublet, span: 20 m, height: 10 m, wire: {diameter: 2 mm}}
+ground: {model: sommerfeld, surface: medium-dry}
+feed:
+  - {id: balun, transformer: balun, ratio: "1:1", loss: 0.15}
+  - {id: coax, line: rg-213, length: 15 m}
+uncertain:
+  antenna.height: [7 m, 13 m]
+adjustable:
+  feed.coax.length: [10 m, 20 m]
+targets: {40m: 7.05 MHz}
+tolerances:
+  fields: {feed.coax.length: 20 cm, antenna.height: 1 m}
+  samples: 30
+  seed: 1
+"""

@@ -18,30 +18,10 @@ from pathlib import Path
 import pytest
 
 from necflow.cli import main
-from tests.conftest import CONFIGS, dipole_like_solver
+from tests.conftest import CONFIGS, JOB_DESIGN_BODY, dipole_like_solver
 from tests.optimize.helpers import write_study
 
-#: The stand-in's design: a 40 m doublet with a 1:1 balun and coax, and the
-#: sections fit, trim and tolerance need.
-DESIGN = """
-name: json-doublet
-bands:
-  - {name: 40m, points: 9}
-antenna: {shape: doublet, span: 20 m, height: 10 m, wire: {diameter: 2 mm}}
-ground: {model: sommerfeld, surface: medium-dry}
-feed:
-  - {id: balun, transformer: balun, ratio: "1:1", loss: 0.15}
-  - {id: coax, line: rg-213, length: 15 m}
-uncertain:
-  antenna.height: [7 m, 13 m]
-adjustable:
-  feed.coax.length: [10 m, 20 m]
-targets: {40m: 7.05 MHz}
-tolerances:
-  fields: {feed.coax.length: 20 cm, antenna.height: 1 m}
-  samples: 30
-  seed: 1
-"""
+DESIGN = "name: json-doublet" + JOB_DESIGN_BODY
 
 #: Per-band records of optimize and trim (BandSummary).
 BAND_KEYS = {"band", "low_hz", "high_hz", "weight", "swr_min", "frequency_swr_min_hz",

@@ -22,7 +22,7 @@ import textwrap
 import pytest
 
 from necflow.cli.progress import Steps, step_text
-from tests.conftest import CONFIGS, ROOT
+from tests.conftest import CONFIGS, JOB_DESIGN_BODY, ROOT
 
 #: The child: the engine's seam ``necflow.engine.solve_feedpoint`` replaced
 #: by a gate in front of the stand-in impedance (or of the engine itself).
@@ -47,27 +47,7 @@ DRIVER = textwrap.dedent("""
     sys.exit(main(argv))
 """)
 
-#: A small design for the stand-in solver (a series-resonant feedpoint at
-#: 7.1 MHz): a 40 m doublet with a 1:1 balun and coax, and the job sections.
-DESIGN = """
-name: gate-doublet
-bands:
-  - {name: 40m, points: 9}
-antenna: {shape: doublet, span: 20 m, height: 10 m, wire: {diameter: 2 mm}}
-ground: {model: sommerfeld, surface: medium-dry}
-feed:
-  - {id: balun, transformer: balun, ratio: "1:1", loss: 0.15}
-  - {id: coax, line: rg-213, length: 15 m}
-uncertain:
-  antenna.height: [7 m, 13 m]
-adjustable:
-  feed.coax.length: [10 m, 20 m]
-targets: {40m: 7.05 MHz}
-tolerances:
-  fields: {feed.coax.length: 20 cm, antenna.height: 1 m}
-  samples: 30
-  seed: 1
-"""
+DESIGN = "name: gate-doublet" + JOB_DESIGN_BODY
 
 
 def _env() -> dict:
