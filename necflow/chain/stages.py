@@ -48,11 +48,35 @@ from necflow.chain.evaluation import Evaluation
 from necflow.config.fields import apply, moves_wires
 from necflow.config.schema import Design
 from necflow.engine.far_field import FarField, average_gain_test, far_field
+from necflow.engine.interpolate import ANCHORS, THRESHOLD, anchor_indices, band_estimate
 from necflow.engine.pynec_adapter import load_impedance
 from necflow.engine.response import ResponseCache, Solver
 from necflow.errors import RulesBroken
 from necflow.feed import FeedChain, build_chain
 from necflow.model import WireModel, build_model, check_rules, check_variant
+
+
+@dataclasses.dataclass(frozen=True)
+class AntennaEstimate:
+    """Feedpoint impedance from a few solved frequencies per band
+    (:meth:`Chain.antenna_estimate`).
+
+    Attributes
+    ----------
+    z : ndarray
+        ``(nfreq,)`` impedance at every evaluated point [ohm].
+    error : ndarray
+        ``(nbands,)`` held-out relative error estimate of each band [-].
+    solved : int
+        Frequency points asked of the response cache.
+    full : tuple of int
+        Bands solved at every point (estimate above the threshold).
+    """
+
+    z: np.ndarray
+    error: np.ndarray
+    solved: int
+    full: tuple
 
 
 def band_points(bands: list[Band]) -> tuple[np.ndarray, np.ndarray]:
@@ -236,6 +260,37 @@ class Chain:
     def antenna(self) -> np.ndarray:
         """Feedpoint impedance [ohm] at every evaluated point."""
         return self.antenna_at(self.frequency_hz)
+
+    def antenna_estimate(self, anchors: int = ANCHORS,
+                         threshold: float = THRESHOLD) -> AntennaEstimate:
+        """Feedpoint impedance at every point from a few solved frequencies
+        per band (:func:`necflow.engine.interpolate.band_estimate`); a band
+        whose held-out error estimate is above ``threshold`` is solved at
+        every point.  Not for a routed design (its line currents are needed
+        at every point)."""
+        if self.routed:
+            raise ValueError("a routed design is solved at every point")
+        f, bi = self.frequency_hz, self.band_index
+        bands = [np.flatnonzero(bi == i) for i in range(len(self.bands))]
+        picks = [idx[anchor_indices(idx.size, anchors)] for idx in bands]
+        first = self.responses.lookup_each(list(self.models), [f[p] for p in picks])
+        z = np.empty(f.size, dtype=complex)
+        errors, full = [], []
+        solved = sum(p.size for p in picks)
+        for i, (idx, p, za) in enumerate(zip(bands, picks, first)):
+            est = band_estimate(f[idx], np.searchsorted(idx, p), za)
+            if est.error > threshold:
+                full.append(i)
+            else:
+                z[idx] = est.z
+            errors.append(est.error)
+        if full:
+            rest = self.responses.lookup_each([self.models[i] for i in full],
+                                              [f[bands[i]] for i in full])
+            for i, zr in zip(full, rest):
+                z[bands[i]] = zr
+                solved += bands[i].size - picks[i].size
+        return AntennaEstimate(z, np.array(errors), solved, tuple(full))
 
     def screened(self, ground_kind: str = "reflection") -> Chain:
         """This chain with its models' ground solved as ``ground_kind`` (the
@@ -437,4 +492,4 @@ def evaluate(design: Design, *, solver: ResponseCache | Solver | Callable | None
     return chain.evaluation
 
 
-__all__ = ["Chain", "Evaluation", "band_points", "evaluate", "prefetch"]
+__all__ = ["AntennaEstimate", "Chain", "Evaluation", "band_points", "evaluate", "prefetch"]

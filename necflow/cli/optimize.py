@@ -26,7 +26,6 @@ from necflow.errors import ConfigError
 from necflow.limits import WORKERS_PER_CORE
 from necflow.optimize import run
 from necflow.optimize.outputs import band_table_text
-from necflow.optimize.problem.robust import check_method
 from necflow.optimize.problem.space import load_study_design
 from necflow.optimize.storage.backends import check_storage_url, storage_password
 from necflow.optimize.strategy.study import (
@@ -79,7 +78,8 @@ def options_from_args(args, design) -> StudyOptions:
     return StudyOptions(out=out, study_name=args.study or design.name, trials=trials,
                         timeout_s=timeout, workers=args.workers, storage=args.storage,
                         seed=args.seed, cache=not getattr(args, "no_cache", False),
-                        storage_password_env=password_env)
+                        storage_password_env=password_env,
+                        screen=not getattr(args, "full_solves", False))
 
 
 def check_workers(workers: int, force: bool = False) -> None:
@@ -117,7 +117,6 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
     started = run_folder.now_utc()
     design, space = load_study_design(args.design)
     method = getattr(args, "method", "nested")
-    check_method(design, method)  # before any storage is opened
     opts, notes = resolve_method(design, space, replace(options_from_args(args, design),
                                                         method=method))
     for note in notes:
@@ -127,17 +126,12 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
     if not args.report_only:
         say(f"study '{opts.study_name}' in {shown}: {len(space.params)} "
             f"parameter(s), {opts.workers} worker(s)")
-        if method == "split":
-            split = run.run_split(design, space, opts, study, solver=solver, on_stage=say)
-            _print_split(split, say)
-            why = split.stopped
-        else:
-            progress = StudyProgress(err, opts.trials, opts.timeout_s, live=err.isatty(),
-                                     count=lambda s: len(counted_trials(s)))
-            try:
-                study, why = run_study(design, space, opts, solver=solver, on_trial=progress)
-            finally:
-                progress.close()
+        progress = StudyProgress(err, opts.trials, opts.timeout_s, live=err.isatty(),
+                                 count=lambda s: len(counted_trials(s)))
+        try:
+            study, why = run_study(design, space, opts, solver=solver, on_trial=progress)
+        finally:
+            progress.close()
     outcome = run.finish_search(study, design, space, opts, shown, solver=solver)
     result, first = outcome.outputs, outcome.start
     files = {"run_folder": str(opts.out), "best_yaml": str(opts.out / "best.yaml"),
@@ -188,17 +182,3 @@ def run_optimize(args, out: TextIO, err: TextIO, solver=None) -> int:
     run.write_search_manifest(args.design, opts, shown, outcome, stopped=why,
                               started=started, argv=["necflow", *sys.argv[1:]])
     return {"stopped by SIGINT": INTERRUPTED, "stopped by SIGTERM": TERMINATED}.get(why, OK)
-
-
-def _print_split(split, say) -> None:
-    res = split.result
-    screened = len(res.screened)
-    if res.confirmations:
-        say(f"split search: {screened} geometries screened over the reflection-coefficient "
-            f"ground, {len(res.confirmations)} confirmed over the design's own ground "
-            f"(screening error of the cost up to {100 * res.screen_cost_error:.1f} %); "
-            f"{res.variants} feed variants scored; {split.solves} frequency points solved")
-    else:
-        say(f"split search: {screened} geometries solved over the design's own ground; "
-            f"{res.variants} feed variants scored; {split.solves} frequency points solved")
-    say(f"best design confirmed with a full solve of every frequency: cost {split.cost:.4g}")

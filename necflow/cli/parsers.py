@@ -72,10 +72,13 @@ def add_optimize_parsers(sub) -> None:
                    "the same folder resumes the study)")
     o.add_argument("--report-only", action="store_true", help="run no trials: write the "
                    "best design, leaderboard and tables of the study as it stands")
-    o.add_argument("--method", choices=("nested", "trials", "split"), default="nested",
+    o.add_argument("--method", choices=("nested", "trials"), default="nested",
                    help="nested (default): trials sample the geometry, each trial's feed "
                    "found by a vectorised inner search; trials: sampled trials over every "
-                   "parameter; split: geometry grid screened, leaders confirmed")
+                   "parameter")
+    o.add_argument("--full-solves", action="store_true", help="nested: solve every "
+                   "geometry at every frequency over its own ground (no screening from few "
+                   "solves)")
     o.add_argument("--no-cache", action="store_true", help="keep no solves on disk "
                    "(default: <run folder>/solves.sqlite, shared by workers and resumes)")
     o.add_argument("--json", action="store_true", help=JSON_HELP)

@@ -1,40 +1,29 @@
-"""One run on a study, in steps: open the study in its run folder, the split
-search recorded as a trial, the outcome with the outputs, the manifest.
+"""One run on a study, in steps: open the study in its run folder, the
+outcome with the outputs, the manifest.
 
-The trials method runs between the first and the third step with
-:func:`necflow.optimize.study.run_study`.  ``necflow optimize``
+The study runs between the first and the second step with
+:func:`necflow.optimize.strategy.study.run_study`.  ``necflow optimize``
 (:mod:`necflow.cli.optimize`) calls the steps in order and prints between
 them; nothing here prints or decides an exit status.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import datetime
 from pathlib import Path
 
-from optuna.distributions import CategoricalDistribution, FloatDistribution
-from optuna.trial import FrozenTrial, TrialState, create_trial
+from optuna.trial import FrozenTrial, TrialState
 
 from necflow.config.resolve import config_sha256
-from necflow.engine.cache import SolveStore
-from necflow.engine.parallel import ParallelSolver
-from necflow.engine.response import ResponseCache
 from necflow.optimize.outputs import StudyOutputs, write_outputs
-from necflow.optimize.problem.cost import score
 from necflow.optimize.storage.backends import describe, redact_url
 from necflow.optimize.storage.bookkeeping import FEED
-from necflow.optimize.strategy.split import SplitResult, split_search
 from necflow.optimize.strategy.study import StudyOptions, counted_trials, open_study
 from necflow.report import run_folder
 
-__all__ = ["SPLIT_FINISHED", "SearchOutcome", "SplitRun", "distribution", "finish_search",
-           "open_search", "run_split", "start_trial", "write_search_manifest"]
-
-#: Why a split search stopped (it always runs to its end).
-SPLIT_FINISHED = "split search finished (best design confirmed with a full solve)"
-
+__all__ = ["SearchOutcome", "finish_search", "open_search", "start_trial",
+           "write_search_manifest"]
 
 def open_search(design, space, options: StudyOptions) -> tuple[object, str]:
     """Create the run folder and open (or resume) the study in it.
@@ -50,59 +39,6 @@ def open_search(design, space, options: StudyOptions) -> tuple[object, str]:
     shown = describe(options.storage, options.out)
     options.out.mkdir(parents=True, exist_ok=True)
     return open_study(design, space, options), shown
-
-
-def distribution(p):
-    """The optuna distribution :meth:`Param.suggest` samples from."""
-    if p.choices is not None:
-        return CategoricalDistribution(list(p.choices))
-    return FloatDistribution(p.low, p.high, log=p.log, step=p.step)
-
-
-@dataclass
-class SplitRun:
-    """What :func:`run_split` did.
-
-    Attributes
-    ----------
-    result : SplitResult
-    cost : float
-        Cost of the confirmed best design (solved at every frequency).
-    solves : int
-        Frequency points solved.
-    stopped : str
-        Why the search stopped (:data:`SPLIT_FINISHED`).
-    """
-
-    result: SplitResult
-    cost: float
-    solves: int
-    stopped: str = SPLIT_FINISHED
-
-
-def run_split(design, space, options: StudyOptions, study, *, solver=None,
-              on_stage: Callable[[str], None] | None = None) -> SplitRun:
-    """Split search with ``options.workers`` processes; its confirmed best
-    design is added to ``study`` as a complete trial, so the outputs, the
-    leaderboard and later resumes see it like any other trial.
-
-    ``on_stage`` is called with a short text as each stage starts.
-    """
-    store = SolveStore(options.out) if options.cache else None
-    with ParallelSolver(workers=options.workers, solver=solver) as ps:
-        cache = ResponseCache(ps, store=store)
-        res = split_search(design, space, cache, seed=options.seed or 0, on_stage=on_stage)
-    sc = score(res.evaluation, design.cost)
-    params = {p.path: res.values[p.path] for p in space.params}
-    attrs = {"necflow.method": "split", "necflow.confirmed": res.confirmed,
-             "necflow.screen_cost_error": res.screen_cost_error,
-             "necflow.terms": {"cost": sc.cost, "worst_swr": sc.worst_swr,
-                               "loss_db": sc.loss_db}}
-    attrs.update({f"band:{b}": t for b, t in sc.bands.items()})
-    study.add_trial(create_trial(params=params, value=sc.cost, user_attrs=attrs,
-                                 distributions={p.path: distribution(p)
-                                                for p in space.params}))
-    return SplitRun(result=res, cost=sc.cost, solves=ps.solves)
 
 
 def start_trial(study) -> FrozenTrial | None:

@@ -20,7 +20,7 @@ from necflow.config.tolerances import perturbations
 from necflow.engine.response import ResponseCache
 from necflow.errors import ConfigError
 from necflow.optimize.problem.cost import score
-from necflow.optimize.problem.robust import check_method, robust_cost, robust_plan, robust_score
+from necflow.optimize.problem.robust import robust_cost, robust_plan, robust_score
 from necflow.optimize.problem.space import load_study_design
 from necflow.optimize.storage.bookkeeping import trial_values
 from necflow.optimize.strategy.study import StudyOptions, run_study
@@ -171,9 +171,6 @@ def test_changed_robust_setting_is_refused_on_resume(tmp_path):
 
 
 def test_refusals_are_config_errors(design, tmp_path):
-    with pytest.raises(ConfigError, match="trials method"):
-        check_method(design, "split")
-    check_method(design, "trials")
     bare = design.model_copy(deep=True)
     bare.tolerances.fields = {}
     with pytest.raises(ConfigError, match="robust design needs tolerances"):
@@ -203,16 +200,3 @@ def test_optimize_command_end_to_end(tmp_path, monkeypatch):
     assert best.cost.robust is not None and best.cost.robust.how == "expected"
     ev = evaluate(best, solver=span_solver)
     assert np.all(np.isfinite(ev.system.swr))
-
-
-def test_split_method_with_robust_is_a_one_line_input_error(tmp_path, capsys):
-    from necflow.cli import main
-
-    path = write_study(tmp_path, ROBUST)
-    out = tmp_path / "run"
-    code = main(["optimize", str(path), "--method", "split", "--out", str(out)])
-    err = capsys.readouterr().err
-    assert code == 2
-    assert "Traceback" not in err and len(err.strip().splitlines()) == 1
-    assert "cost.robust" in err and "trials" in err
-    assert not (out / "study.journal").exists()  # refused before the storage was opened

@@ -121,19 +121,6 @@ def robust_plan(design, space=None) -> RobustPlan | None:
     return RobustPlan(spec.how, tols, perturbations(design, tols))
 
 
-def check_method(design, method: str) -> None:
-    """Refuse a search method that cannot score robustly.
-
-    Raises
-    ------
-    ConfigError
-        For ``split`` with ``cost.robust`` set.
-    """
-    if method == "split" and design.cost.robust is not None:
-        raise ConfigError("robust design (cost.robust) runs with the trials method; drop "
-                          "'--method split' or 'cost.robust'", field="cost.robust")
-
-
 def robust_score(design, plan: RobustPlan, cache) -> RobustScore:
     """Score ``design`` over the plan's cases applied to it.
 

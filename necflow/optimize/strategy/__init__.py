@@ -1,2 +1,3 @@
-"""How a study searches: the optuna trial loop (study), the split search and
-the vectorised inner feed search."""
+"""How a study searches: the optuna trial loop (study), the screening of
+nested trials from few solves (screen) and the vectorised inner feed search
+(inner)."""

@@ -33,6 +33,13 @@ Methods (``StudyOptions.method``, recorded in the study's user attribute
   solve), minimising the combined ``cost`` (with several objectives too: the
   documented scalarisation), and the trial's design, geometry plus best feed,
   is evaluated and scored as in the trials method (robust scoring included).
+  With one objective and no robust scoring, each geometry is first
+  *screened* from few solves (a few frequencies per band, over the
+  reflection-coefficient ground when the design's is Sommerfeld-Norton,
+  corrected by what the worker's full solves taught it): only a geometry
+  whose estimate comes near the study's best is solved in full, and only a
+  full solve's cost can be the best (:mod:`necflow.optimize.strategy.screen`;
+  ``StudyOptions.screen`` False, ``--full-solves``, solves every geometry).
   The feed values go to the trial's user attribute ``necflow.feed``
   (:func:`necflow.optimize.storage.bookkeeping.trial_values` merges them
   with ``trial.params``).  A design with a ``route`` (the feed line in the
@@ -40,8 +47,7 @@ Methods (``StudyOptions.method``, recorded in the study's user attribute
   common-mode terms depend on the feed), a search with no feed field, or a
   feed field the batch cannot vary runs as ``trials``; a search of feed
   fields only has one geometry and is one trial;
-* ``trials``: the sampler draws every field;
-* ``split``: see :mod:`necflow.optimize.strategy.split` (one recorded trial).
+* ``trials``: the sampler draws every field.
 """
 
 from __future__ import annotations
@@ -82,6 +88,7 @@ from necflow.optimize.storage.bookkeeping import (
     take_slot,
 )
 from necflow.optimize.strategy.inner import FeedSearch
+from necflow.optimize.strategy.screen import Screening
 
 __all__ = ["CONSTRAINTS", "COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "METHODS", "Interrupted",
            "StudyOptions", "TrialFailure", "begin_session", "counted_trials", "enqueue_start",
@@ -93,7 +100,11 @@ SESSIONS = "necflow.sessions"
 METHOD = "necflow.method"
 #: Trial user attribute: margin of each stated site constraint [m], > 0 broken.
 CONSTRAINTS = "necflow.constraints"
-METHODS = ("nested", "trials", "split")
+#: Trial user attribute of a screened nested trial (see :func:`run_trial`).
+SCREENING = "necflow.screening"
+#: Trial user attribute: frequency points asked of the engine, ``screen`` and ``full``.
+SOLVES = "necflow.solves"
+METHODS = ("nested", "trials")
 #: Feed variants scored by the inner search of each nested trial.
 INNER_VARIANTS = 20000
 WAIT_S = 0.5          # a worker whose budget places are all held polls this often
@@ -112,7 +123,8 @@ class StudyOptions:
     seed: int | None = None      # as given; each worker's sampler seed is drawn from it
     cache: bool = True           # keep solves in <out>/solves.sqlite for every worker and run
     storage_password_env: str | None = None   # environment variable holding the password
-    method: str = "nested"       # nested | trials | split (see the module notes)
+    method: str = "nested"       # nested | trials (see the module notes)
+    screen: bool = True          # nested: screen geometries from few solves (see screen.py)
 
 
 def parse_duration(text: str) -> float:
@@ -212,6 +224,11 @@ def guard_method(study, method: str) -> None:
             recorded = "split" if any(t.user_attrs.get(METHOD) == "split" for t in trials) \
                 else "trials"
         study.set_user_attr(METHOD, recorded or method)
+    if recorded is not None and recorded not in METHODS:
+        raise ConfigError(f"study '{study.study_name}' was made by the {recorded} search, "
+                          "which is no longer offered (the nested method does its work); "
+                          "its trials are kept in the storage; use a new --study name or "
+                          "--out folder to search again", field="--method")
     if recorded is not None and recorded != method:
         raise ConfigError(f"study '{study.study_name}' was begun with --method {recorded}; "
                           f"resume it with --method {recorded}, or use a new --study name or "
@@ -311,7 +328,8 @@ def enqueue_start(study, design, space, *, nested: bool = False) -> bool:
 
 
 def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = None,
-              seed: int = 0) -> tuple[float, ...]:
+              seed: int = 0, screening: Screening | None = None,
+              best: Callable[[], float | None] | None = None) -> tuple[float, ...]:
     """Suggest, build, check, evaluate and score one variant of ``base``'s
     design (over the cases of ``robust``, a
     :class:`~necflow.optimize.robust.RobustPlan`, if given).  A variant that
@@ -320,8 +338,15 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
     With ``feed`` (the nested method) the trial suggests the geometry fields
     only; the feed fields are those of ``feed.search`` on the geometry's
     antenna response (seeded with ``seed``, the same in every worker, so the
-    trial's outcome is a function of its geometry alone), recorded in the user attribute
-    ``necflow.feed``; the design of both is then evaluated and scored.
+    trial's outcome is a function of its geometry alone), recorded in the user
+    attribute ``necflow.feed``; the design of both is then evaluated and scored.
+    With ``screening`` as well (:mod:`necflow.optimize.strategy.screen`) the
+    geometry is first screened from few solves; unless the screen's estimate
+    comes within the margin of ``best()`` (the study's best cost, None when
+    there is none) the trial reports that estimate, unconfirmed (user
+    attribute ``necflow.screening``); otherwise it is confirmed as above.
+    ``necflow.solves`` counts the frequency points the trial asked of the
+    engine: ``screen`` and ``full``.
 
     A variant whose wires cannot be placed or modelled, or that breaks a
     stated site constraint (the design's ``constraints``, whose margins go
@@ -355,6 +380,20 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
             variant = shaped
         else:
             geometry = shaped
+            if screening is not None:
+                screen = screening.screen(geometry, values)
+                quick = feed.search(screen.z, max_variants=INNER_VARIANTS, seed=seed)
+                record = {"confirmed": False, "estimate": quick.cost,
+                          "interp_error": screen.interp_error, "corrected": screen.corrected,
+                          "ground": screen.ground}
+                if not screening.confirm(screen, quick.cost, best() if best else None):
+                    trial.set_user_attr(FEED, quick.values)
+                    trial.set_user_attr(SCREENING, record)
+                    trial.set_user_attr(SOLVES, {"screen": screen.solved, "full": 0})
+                    trial.set_user_attr("necflow.inner", {"cost": quick.cost,
+                                                          "variants": quick.evaluated})
+                    trial.set_user_attr("necflow.terms", {"cost": quick.cost})
+                    return (quick.cost,)
             inner = feed.search(geometry.antenna, max_variants=INNER_VARIANTS, seed=seed)
             trial.set_user_attr(FEED, inner.values)
             trial.set_user_attr("necflow.inner", {"cost": inner.cost,
@@ -370,6 +409,15 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
         raise TrialFailure(f"{type(exc).__name__}: {exc}") from None
     if not all(math.isfinite(v) for v in result):
         raise TrialFailure(f"the cost is not finite: {result}")
+    if feed is not None and screening is not None:
+        screening.learn(values, screen, geometry.antenna, quick.cost, sc.cost)
+        record.update(confirmed=True, cost=sc.cost,
+                      error=abs(quick.cost - sc.cost) / abs(sc.cost) if sc.cost else 0.0)
+        if not screen.corrected:
+            record["error"] = None       # nothing learned yet: not a screening estimate
+        trial.set_user_attr(SCREENING, record)
+        trial.set_user_attr(SOLVES, {"screen": screen.solved,
+                                     "full": int(geometry.frequency_hz.size)})
     if robust is not None:
         trial.set_user_attr("necflow.robust", rs.attrs())
     for band, terms in sc.bands.items():
@@ -427,6 +475,16 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
     study = study or open_study(design, space, options)
     robust = robust_plan(design, space)   # drawn once: the same cases for every trial
     feed = feed_search(design, space) if options.method == "nested" else None
+    screening = None
+    if feed is not None and options.screen and robust is None and \
+            len(design.cost.objectives) == 1:
+        screening = Screening([p for p in space.params if p.geometry])
+
+    def best() -> float | None:
+        try:
+            return float(study.best_value)
+        except ValueError:       # no complete trial yet
+            return None
     store = None
     if options.cache:
         store = SolveStore(options.out)
@@ -457,7 +515,8 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
             state, values, reason = TrialState.FAIL, None, None
             try:
                 sig.in_trial = True
-                values = run_trial(trial, base, space, robust, feed)
+                values = run_trial(trial, base, space, robust, feed, screening=screening,
+                                   best=best)
                 sig.in_trial = False
                 state = TrialState.COMPLETE
             except TrialFailure as exc:
