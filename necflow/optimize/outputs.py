@@ -28,7 +28,7 @@ from necflow.errors import NecflowError
 from necflow.optimize.problem.cost import score
 from necflow.optimize.problem.robust import robust_plan, robust_score
 from necflow.optimize.storage.backends import redact_url
-from necflow.optimize.storage.bookkeeping import trial_values
+from necflow.optimize.storage.bookkeeping import SCREENING, trial_values
 from necflow.report import run_folder
 from necflow.report.tables import band_table
 from necflow.units import _DISPLAY
@@ -77,8 +77,9 @@ def ranked_trials(study, n: int = LEADERBOARD_ROWS) -> list:
 
 def leaderboard_csv(study, space, objectives) -> str:
     """CSV text: rank, trial, objectives (``objective.<name>``), parameters
-    (their display unit in the header), the nominal cost terms and the band
-    terms; every header once."""
+    (their display unit in the header), the nominal cost terms, ``full_solve``
+    (1: the cost of a full solve; 0: a nested trial's screened estimate, whose
+    other terms are not computed) and the band terms; every header once."""
     rows = ranked_trials(study)
     band_keys: list[str] = []
     for t in rows:
@@ -94,7 +95,7 @@ def leaderboard_csv(study, space, objectives) -> str:
                                 for o in objectives]
     for p in space.params:
         head.append(f"{p.path} [{_DISPLAY[p.dimension]}]" if p.dimension else p.path)
-    head += ["cost", "worst_swr", "loss_db"] + band_keys
+    head += ["cost", "worst_swr", "loss_db", "full_solve"] + band_keys
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(head)
@@ -108,6 +109,7 @@ def leaderboard_csv(study, space, objectives) -> str:
             row.append(v)
         terms = t.user_attrs.get("necflow.terms", {})
         row += [f"{terms.get(k, math.nan):.6g}" for k in ("cost", "worst_swr", "loss_db")]
+        row.append(0 if t.user_attrs.get(SCREENING, {}).get("confirmed") is False else 1)
         for key in band_keys:
             band, term = key.rsplit(".", 1)
             row.append(f"{t.user_attrs.get('band:' + band, {}).get(term, math.nan):.6g}")

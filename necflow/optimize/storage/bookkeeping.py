@@ -41,6 +41,12 @@ PID = "necflow.pid"
 #: The feed values the nested method's inner search chose for a trial (SI, by path); the
 #: optuna sampler sees only the geometry, so ``trial.params`` holds the geometry alone.
 FEED = "necflow.feed"
+#: Trial user attribute of a nested trial's screening (estimate, whether it
+#: was confirmed by a full solve, errors; see necflow.optimize.strategy.study).
+SCREENING = "necflow.screening"
+#: Trial user attribute: frequency points a nested trial asked of the engine,
+#: ``screen`` and ``full``.
+SOLVES = "necflow.solves"
 
 
 def _states():

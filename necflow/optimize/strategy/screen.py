@@ -42,7 +42,7 @@ from necflow.engine.interpolate import ANCHORS, THRESHOLD
 __all__ = ["MARGIN", "NEIGHBOURS", "Screen", "Screening"]
 
 #: Least relative margin above the best cost within which a geometry is confirmed.
-MARGIN = 0.03
+MARGIN = 0.01
 #: Confirmed geometries whose corrections are blended.
 NEIGHBOURS = 4
 #: Corrections kept per worker (the oldest are dropped; memory stays bounded).

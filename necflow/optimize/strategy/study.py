@@ -83,6 +83,8 @@ from necflow.optimize.storage.bookkeeping import (
     DISCARDED,
     FAIL_REASON,
     FEED,
+    SCREENING,
+    SOLVES,
     counted_trials,
     fail_orphans,
     take_slot,
@@ -90,7 +92,8 @@ from necflow.optimize.storage.bookkeeping import (
 from necflow.optimize.strategy.inner import FeedSearch
 from necflow.optimize.strategy.screen import Screening
 
-__all__ = ["CONSTRAINTS", "COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "METHODS", "Interrupted",
+__all__ = ["CONSTRAINTS", "COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "METHODS",
+           "SCREENING", "SOLVES", "Interrupted",
            "StudyOptions", "TrialFailure", "begin_session", "counted_trials", "enqueue_start",
            "fail_orphans", "feed_search", "guard_method", "lock_of", "open_study",
            "parse_duration", "resolve_method", "run_study", "run_trial", "worker_loop",
@@ -100,10 +103,6 @@ SESSIONS = "necflow.sessions"
 METHOD = "necflow.method"
 #: Trial user attribute: margin of each stated site constraint [m], > 0 broken.
 CONSTRAINTS = "necflow.constraints"
-#: Trial user attribute of a screened nested trial (see :func:`run_trial`).
-SCREENING = "necflow.screening"
-#: Trial user attribute: frequency points asked of the engine, ``screen`` and ``full``.
-SOLVES = "necflow.solves"
 METHODS = ("nested", "trials")
 #: Feed variants scored by the inner search of each nested trial.
 INNER_VARIANTS = 20000
