@@ -27,8 +27,10 @@ within the margin of the study's best cost; otherwise the trial reports the
 estimate and is marked unconfirmed.  So the study's best trial is always a
 confirmed one: an unconfirmed estimate lies above the best cost at the time
 it was made, and the best cost only falls.  The margin is the larger of
-:data:`MARGIN` and twice the largest screening error seen by this worker
-(estimate against confirmed cost), so a screen that misjudges widens it.
+:data:`MARGIN` and twice the 90th percentile of the last :data:`RECENT`
+screening errors seen by this worker (relative, estimate against confirmed
+cost), so a screen that misjudges widens it and one that has learned the
+neighbourhood narrows it.
 """
 
 from __future__ import annotations
@@ -42,7 +44,9 @@ from necflow.engine.interpolate import ANCHORS, THRESHOLD
 __all__ = ["MARGIN", "NEIGHBOURS", "Screen", "Screening"]
 
 #: Least relative margin above the best cost within which a geometry is confirmed.
-MARGIN = 0.01
+MARGIN = 0.0025
+#: Recent screening errors the margin is drawn from.
+RECENT = 32
 #: Confirmed geometries whose corrections are blended.
 NEIGHBOURS = 4
 #: Corrections kept per worker (the oldest are dropped; memory stays bounded).
@@ -142,7 +146,10 @@ class Screening:
     @property
     def margin(self) -> float:
         """Relative margin above the best cost within which to confirm."""
-        return max(self.base_margin, 2.0 * max(self.errors, default=0.0))
+        recent = self.errors[-RECENT:]
+        if not recent:
+            return self.base_margin
+        return max(self.base_margin, 2.0 * float(np.percentile(recent, 90)))
 
     def confirm(self, screen: Screen, estimate: float, best: float | None) -> bool:
         """Whether to solve the geometry in full (see the module notes)."""
