@@ -616,7 +616,8 @@ def main(argv=None) -> int:
 
     warnings.simplefilter("ignore", NecflowWarning)
     t_start = time.perf_counter()
-    say = lambda s: print(f"[{time.perf_counter() - t_start:6.0f} s] {s}", flush=True)  # noqa
+    say = lambda s: print(f"[{time.perf_counter() - t_start:6.0f} s, load "  # noqa: E731
+                          f"{os.getloadavg()[0]:4.2f}] {s}", flush=True)
 
     shared_doc, shared_rows = {}, []
     if "demo" in names:
