@@ -35,10 +35,13 @@ lint: $(STAMP)
 	$(VENV)/bin/lint-imports
 	$(VENV)/bin/ruff check .
 
-# Speed benchmark (not part of `make test`; about 10-15 minutes on 2 cores):
-# prints a table and writes bench.json.
+# Speed benchmark (not part of `make test`; under about 30 minutes on 2 cores): three
+# problems (the demo, bench/problems/off-centre.yaml, bench/problems/inverted-v.yaml),
+# each a reference optimum, the nested study and a plain optuna loop; prints one table
+# and writes bench.json.  BENCH_ARGS passes options, e.g.
+# make bench BENCH_ARGS="--problems demo --plain-budget 120".
 bench: $(STAMP)
-	$(PY) bench/run.py
+	$(PY) bench/run.py $(BENCH_ARGS)
 
 # Regenerate the design-key reference in README.md from the schema.
 docs: $(STAMP)
