@@ -293,9 +293,9 @@ class Chain:
         return AntennaEstimate(z, np.array(errors), solved, tuple(full))
 
     def screened(self, ground_kind: str = "reflection") -> Chain:
-        """This chain with its models' ground solved as ``ground_kind`` (the
-        split search screens geometries over the reflection-coefficient
-        ground, far cheaper than Sommerfeld-Norton)."""
+        """This chain with its models' ground solved as ``ground_kind`` (a nested
+        study screens geometries over the reflection-coefficient ground, far
+        cheaper than Sommerfeld-Norton; :mod:`necflow.optimize.strategy.screen`)."""
         out = Chain(self.design, self.responses, top_frequency_hz=self.top_frequency_hz,
                     density=self.density)
         for stage in ("bands", "_points"):
