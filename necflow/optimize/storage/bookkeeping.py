@@ -41,6 +41,10 @@ PID = "necflow.pid"
 #: The feed values the nested method's inner search chose for a trial (SI, by path); the
 #: optuna sampler sees only the geometry, so ``trial.params`` holds the geometry alone.
 FEED = "necflow.feed"
+#: The geometry a nested trial solved when its local refinement moved it from the
+#: sampled point (SI, by path; see necflow.optimize.strategy.polish); overrides
+#: ``trial.params``.
+GEOMETRY = "necflow.geometry"
 #: Trial user attribute of a nested trial's screening (estimate, whether it
 #: was confirmed by a full solve, errors; see necflow.optimize.strategy.study).
 SCREENING = "necflow.screening"
@@ -62,8 +66,10 @@ def counted_trials(study) -> list:
 
 def trial_values(trial) -> dict:
     """Every searched value of a trial: its sampled ``params`` and, with the
-    nested method, the feed values of its inner search (:data:`FEED`)."""
-    return {**trial.params, **trial.user_attrs.get(FEED, {})}
+    nested method, the geometry its local refinement moved to
+    (:data:`GEOMETRY`) and the feed values of its inner search (:data:`FEED`)."""
+    return {**trial.params, **trial.user_attrs.get(GEOMETRY, {}),
+            **trial.user_attrs.get(FEED, {})}
 
 
 def _alive(pid: int) -> bool:

@@ -83,6 +83,7 @@ from necflow.optimize.storage.bookkeeping import (
     DISCARDED,
     FAIL_REASON,
     FEED,
+    GEOMETRY,
     SCREENING,
     SOLVES,
     counted_trials,
@@ -90,6 +91,7 @@ from necflow.optimize.storage.bookkeeping import (
     take_slot,
 )
 from necflow.optimize.strategy.inner import FeedSearch
+from necflow.optimize.strategy.polish import STEP, refine
 from necflow.optimize.strategy.screen import Screening
 
 __all__ = ["CONSTRAINTS", "COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "METHODS",
@@ -106,6 +108,14 @@ CONSTRAINTS = "necflow.constraints"
 METHODS = ("nested", "trials")
 #: Feed variants scored by the inner search of each nested trial.
 INNER_VARIANTS = 20000
+#: Feed variants per screened estimate of a local refinement (its many estimates
+#: need only rank geometries; the refined one is searched with INNER_VARIANTS).
+REFINE_VARIANTS = 2000
+#: Trial user attribute of a queued revisit: the number of the trial whose
+#: confirmed geometry it refines again (with the correction that trial taught).
+REVISIT = "necflow.revisit"
+#: Least relative gain over the previous best for a new best to be revisited.
+REVISIT_GAIN = 1e-3
 WAIT_S = 0.5          # a worker whose budget places are all held polls this often
 
 
@@ -326,6 +336,73 @@ def enqueue_start(study, design, space, *, nested: bool = False) -> bool:
 # One trial
 
 
+def _feasible(base: Chain, values: dict, trial=None) -> Chain:
+    """The variant of ``base`` with ``values``, its site-constraint margins
+    recorded on ``trial`` (user attribute ``necflow.constraints``).
+
+    Raises
+    ------
+    TrialFailure
+        ``infeasible: ...`` when its wires cannot be placed or modelled or it
+        breaks a stated site constraint.
+    """
+    try:
+        shaped = base.variant(values)
+        found = margins(shaped.design)
+    except (ConfigError, ModelError) as exc:   # wires that cannot be placed or modelled
+        raise TrialFailure(f"{INFEASIBLE}: {exc}") from None
+    if found:
+        if trial is not None:
+            trial.set_user_attr(CONSTRAINTS, found)
+        broken = violations(shaped.design, found)
+        if broken:
+            raise TrialFailure(f"{INFEASIBLE}: {broken}")
+    return shaped
+
+
+def _movable(space) -> list:
+    """The geometry fields a local refinement moves: every numeric one (a
+    stepped field moves on its grid); a field of choices stays as drawn."""
+    return [p for p in space.params if p.geometry and p.choices is None]
+
+
+def _refine(trial, base: Chain, space, values: dict, start: float, feed: FeedSearch,
+            seed: int, screening: Screening, step: float = STEP) -> tuple[dict, int] | None:
+    """Refine a promising trial's geometry on screened estimates
+    (:mod:`necflow.optimize.strategy.polish`): the continuous geometry fields
+    move, gridded ones stay.  Returns the refined geometry values and the
+    frequency points the estimates asked of the engine, or None when no
+    field can move or nothing better was found; records ``necflow.geometry``
+    and ``necflow.refine`` on the trial when it moved."""
+    free = _movable(space)
+    if not free:
+        return None
+    points = [0]
+
+    def at(x) -> dict:
+        return {**values, **{p.path: float(p.from_unit(xi)) for p, xi in zip(free, x)}}
+
+    def estimate(x) -> float:
+        v = at(x)
+        try:
+            shaped = _feasible(base, v)
+        except TrialFailure:
+            return math.inf
+        scr = screening.screen(shaped, v)
+        points[0] += scr.solved
+        return feed.search(scr.z, max_variants=REFINE_VARIANTS, seed=seed).cost
+
+    x0 = np.array([p.to_unit(values[p.path]) for p in free])   # a grid value: its cell centre
+    done = refine(estimate, x0, start, step=step)
+    if not done.value < start:
+        return None
+    moved = at(done.x)
+    trial.set_user_attr(GEOMETRY, {p.path: moved[p.path] for p in free})
+    trial.set_user_attr("necflow.refine", {"start": start, "estimate": done.value,
+                                           "evaluations": done.evaluations})
+    return moved, points[0]
+
+
 def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = None,
               seed: int = 0, screening: Screening | None = None,
               best: Callable[[], float | None] | None = None) -> tuple[float, ...]:
@@ -344,8 +421,13 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
     comes within the margin of ``best()`` (the study's best cost, None when
     there is none) the trial reports that estimate, unconfirmed (user
     attribute ``necflow.screening``); otherwise it is confirmed as above.
-    ``necflow.solves`` counts the frequency points the trial asked of the
-    engine: ``screen`` and ``full``.
+    A geometry whose estimate promises a new best (or the study's first, or a
+    queued revisit, user attribute ``necflow.revisit``) is first refined
+    locally on screened estimates (:mod:`necflow.optimize.strategy.polish`;
+    the refined values go to ``necflow.geometry``), and a confirmed new best
+    queues a revisit of its geometry, refined again with the correction its
+    full solve taught.  ``necflow.solves`` counts the frequency points the
+    trial asked of the engine: ``screen`` (refinement included) and ``full``.
 
     A variant whose wires cannot be placed or modelled, or that breaks a
     stated site constraint (the design's ``constraints``, whose margins go
@@ -361,19 +443,7 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
         values = space.suggest(trial)
     else:
         values = {p.path: p.suggest(trial) for p in space.params if p.geometry}
-    try:
-        shaped = base.variant(values)
-    except (ConfigError, ModelError) as exc:   # wires that cannot be placed or modelled
-        raise TrialFailure(f"{INFEASIBLE}: {exc}") from None
-    try:
-        found = margins(shaped.design)
-    except (ConfigError, ModelError) as exc:
-        raise TrialFailure(f"{INFEASIBLE}: {exc}") from None
-    if found:
-        trial.set_user_attr(CONSTRAINTS, found)
-        broken = violations(shaped.design, found)
-        if broken:
-            raise TrialFailure(f"{INFEASIBLE}: {broken}")
+    shaped = _feasible(base, values, trial)
     try:
         if feed is None:
             variant = shaped
@@ -382,13 +452,25 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
             if screening is not None:
                 screen = screening.screen(geometry, values)
                 quick = feed.search(screen.z, max_variants=INNER_VARIANTS, seed=seed)
+                screened = screen.solved
+                b = best() if best else None
+                revisit = trial.user_attrs.get(REVISIT) is not None
+                if revisit or b is None or quick.cost < b:
+                    moved = _refine(trial, base, space, values, quick.cost, feed, seed,
+                                    screening, step=STEP / 2 if revisit else STEP)
+                    if moved is not None:
+                        values, points = moved
+                        screened += points
+                        geometry = _feasible(base, values, trial)
+                        screen = screening.screen(geometry, values)
+                        quick = feed.search(screen.z, max_variants=INNER_VARIANTS, seed=seed)
                 record = {"confirmed": False, "estimate": quick.cost,
                           "interp_error": screen.interp_error, "corrected": screen.corrected,
                           "ground": screen.ground}
                 if not screening.confirm(screen, quick.cost, best() if best else None):
                     trial.set_user_attr(FEED, quick.values)
                     trial.set_user_attr(SCREENING, record)
-                    trial.set_user_attr(SOLVES, {"screen": screen.solved, "full": 0})
+                    trial.set_user_attr(SOLVES, {"screen": screened, "full": 0})
                     trial.set_user_attr("necflow.inner", {"cost": quick.cost,
                                                           "variants": quick.evaluated})
                     trial.set_user_attr("necflow.terms", {"cost": quick.cost})
@@ -404,6 +486,8 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
         else:
             rs = robust_score(variant.design, robust, base.responses)
             sc, result = rs.nominal, rs.values
+    except TrialFailure:
+        raise
     except Exception as exc:  # any failure of one variant must not end the study
         raise TrialFailure(f"{type(exc).__name__}: {exc}") from None
     if not all(math.isfinite(v) for v in result):
@@ -415,8 +499,12 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
         if not screen.corrected:
             record["error"] = None       # nothing learned yet: not a screening estimate
         trial.set_user_attr(SCREENING, record)
-        trial.set_user_attr(SOLVES, {"screen": screen.solved,
+        trial.set_user_attr(SOLVES, {"screen": screened,
                                      "full": int(geometry.frequency_hz.size)})
+        if (b is None or sc.cost < b - REVISIT_GAIN * abs(b)) and _movable(space):
+            # a new best: queue its geometry to be refined again with what it taught
+            trial.study.enqueue_trial({p.path: values[p.path] for p in space.params
+                                       if p.geometry}, user_attrs={REVISIT: trial.number})
     if robust is not None:
         trial.set_user_attr("necflow.robust", rs.attrs())
     for band, terms in sc.bands.items():
