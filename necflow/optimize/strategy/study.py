@@ -94,8 +94,8 @@ from necflow.optimize.strategy.inner import FeedSearch
 from necflow.optimize.strategy.polish import STEP, refine
 from necflow.optimize.strategy.screen import Screening
 
-__all__ = ["CONSTRAINTS", "COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "METHODS",
-           "SCREENING", "SOLVES", "Interrupted",
+__all__ = ["CONSTRAINTS", "COUNTED", "DISCARDED", "FAIL_REASON", "FEED", "GEOMETRY",
+           "METHODS", "REFINE", "REVISIT", "SCREENING", "SOLVES", "Interrupted",
            "StudyOptions", "TrialFailure", "begin_session", "counted_trials", "enqueue_start",
            "fail_orphans", "feed_search", "guard_method", "lock_of", "open_study",
            "parse_duration", "resolve_method", "run_study", "run_trial", "worker_loop",
@@ -114,6 +114,9 @@ REFINE_VARIANTS = 2000
 #: Trial user attribute of a queued revisit: the number of the trial whose
 #: confirmed geometry it refines again (with the correction that trial taught).
 REVISIT = "necflow.revisit"
+#: Trial user attribute of a local refinement: estimates at its start and end,
+#: evaluations spent, whether it moved the geometry.
+REFINE = "necflow.refine"
 #: Least relative gain over the previous best for a new best to be revisited.
 REVISIT_GAIN = 1e-3
 WAIT_S = 0.5          # a worker whose budget places are all held polls this often
@@ -367,16 +370,17 @@ def _movable(space) -> list:
 
 
 def _refine(trial, base: Chain, space, values: dict, start: float, feed: FeedSearch,
-            seed: int, screening: Screening, step: float = STEP) -> tuple[dict, int] | None:
+            seed: int, screening: Screening, step: float = STEP) -> tuple[dict | None, int]:
     """Refine a promising trial's geometry on screened estimates
     (:mod:`necflow.optimize.strategy.polish`): the continuous geometry fields
-    move, gridded ones stay.  Returns the refined geometry values and the
-    frequency points the estimates asked of the engine, or None when no
-    field can move or nothing better was found; records ``necflow.geometry``
-    and ``necflow.refine`` on the trial when it moved."""
+    move (a stepped one on its grid), fields of choices stay.  Returns the
+    refined geometry values (None when no field can move or nothing better
+    was found) and the frequency points the estimates asked of the engine;
+    records ``necflow.refine`` on the trial, and ``necflow.geometry`` when
+    it moved."""
     free = _movable(space)
     if not free:
-        return None
+        return None, 0
     points = [0]
 
     def at(x) -> dict:
@@ -394,12 +398,12 @@ def _refine(trial, base: Chain, space, values: dict, start: float, feed: FeedSea
 
     x0 = np.array([p.to_unit(values[p.path]) for p in free])   # a grid value: its cell centre
     done = refine(estimate, x0, start, step=step)
+    trial.set_user_attr(REFINE, {"start": start, "estimate": done.value,
+                                 "evaluations": done.evaluations, "moved": done.value < start})
     if not done.value < start:
-        return None
+        return None, points[0]
     moved = at(done.x)
     trial.set_user_attr(GEOMETRY, {p.path: moved[p.path] for p in free})
-    trial.set_user_attr("necflow.refine", {"start": start, "estimate": done.value,
-                                           "evaluations": done.evaluations})
     return moved, points[0]
 
 
@@ -456,11 +460,11 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
                 b = best() if best else None
                 revisit = trial.user_attrs.get(REVISIT) is not None
                 if revisit or b is None or quick.cost < b:
-                    moved = _refine(trial, base, space, values, quick.cost, feed, seed,
-                                    screening, step=STEP / 2 if revisit else STEP)
+                    moved, points = _refine(trial, base, space, values, quick.cost, feed, seed,
+                                            screening, step=STEP / 2 if revisit else STEP)
+                    screened += points
                     if moved is not None:
-                        values, points = moved
-                        screened += points
+                        values = moved
                         geometry = _feasible(base, values, trial)
                         screen = screening.screen(geometry, values)
                         quick = feed.search(screen.z, max_variants=INNER_VARIANTS, seed=seed)
