@@ -29,7 +29,7 @@ from necflow.engine.interpolate import THRESHOLD, anchor_indices, band_estimate
 from necflow.engine.response import ResponseCache
 from necflow.optimize.problem.cost import score_design
 from necflow.optimize.problem.space import build_space, load_study_design
-from necflow.optimize.storage.bookkeeping import trial_values
+from necflow.optimize.storage.bookkeeping import CORRECTION, trial_values
 from necflow.optimize.strategy.screen import Screening
 from necflow.optimize.strategy.study import REFINE, SCREENING, SOLVES, StudyOptions, run_study
 from tests.conftest import demo_text_without_route
@@ -190,3 +190,39 @@ def test_screened_nested_study_reaches_the_exhaustive_optimum(tmp_path):
         else:
             assert solves["full"] == 0 and t.value == rec["estimate"]
             assert t.value > best.value      # an unconfirmed trial is never the best
+
+
+@pytest.mark.engine
+def test_corrections_are_stored_and_learned_by_a_resumed_session(tmp_path):
+    design, space = load_study_design(write_study(tmp_path, SOMMERFELD_STUDY))
+    opts = StudyOptions(out=tmp_path / "run", study_name="s", trials=2, seed=3)
+    study, _ = run_study(design, space, opts)
+    confirmed = [t for t in study.get_trials(states=(TrialState.COMPLETE,))
+                 if t.user_attrs[SCREENING]["confirmed"]]
+    assert confirmed
+    first = confirmed[0]
+    # the stored correction is the full solve minus the screen, both made again here
+    geometry = {"antenna.span": trial_values(first)["antenna.span"]}
+    chain = Chain(apply(design, geometry))
+    screen = chain.screened("reflection").antenna_estimate().z
+    stored = first.user_attrs[CORRECTION]
+    dz = np.asarray(stored["re"]) + 1j * np.asarray(stored["im"])
+    assert dz == pytest.approx(chain.antenna - screen, rel=1e-9, abs=1e-9)
+    # a second session (a fresh worker, nothing learned in memory) screens with it
+    study, _ = run_study(design, space, StudyOptions(out=tmp_path / "run", study_name="s",
+                                                     trials=4, seed=3))
+    later = [t for t in study.get_trials(states=(TrialState.COMPLETE,)) if t.number >= 2]
+    assert later and all(t.user_attrs[SCREENING]["corrected"] for t in later)
+
+
+def test_absorbed_corrections_are_learned_once():
+    params = [p for p in build_space(load_design_text(demo_text_without_route())).params
+              if p.geometry]
+    s = Screening(params)
+    path = params[0].path
+    dz = np.array([1 + 2j, 3 - 1j])
+    assert s.correction(np.array([0.5])) is None
+    assert s.absorb([(7, {path: params[0].from_unit(0.5)}, dz, 0.01)]) == 1
+    assert s.absorb([(7, {path: params[0].from_unit(0.5)}, dz, 0.01)]) == 0
+    assert s.correction(s.position({path: params[0].from_unit(0.5)})) == pytest.approx(dz)
+    assert s.errors == [0.01]

@@ -27,6 +27,7 @@ import socket
 import time
 import warnings
 
+import numpy as np
 import optuna
 from optuna.storages._rdb import models
 from optuna.trial import FrozenTrial, TrialState
@@ -48,6 +49,10 @@ GEOMETRY = "necflow.geometry"
 #: Trial user attribute of a nested trial's screening (estimate, whether it
 #: was confirmed by a full solve, errors; see necflow.optimize.strategy.study).
 SCREENING = "necflow.screening"
+#: Trial user attribute of a confirmed nested trial: the correction its full solve
+#: taught the screening, ``{"re": [...], "im": [...]}`` [ohm] at every point (see
+#: necflow.optimize.strategy.screen), so every worker and session can learn it.
+CORRECTION = "necflow.correction"
 #: Trial user attribute: frequency points a nested trial asked of the engine,
 #: ``screen`` and ``full``.
 SOLVES = "necflow.solves"
@@ -70,6 +75,18 @@ def trial_values(trial) -> dict:
     (:data:`GEOMETRY`) and the feed values of its inner search (:data:`FEED`)."""
     return {**trial.params, **trial.user_attrs.get(GEOMETRY, {}),
             **trial.user_attrs.get(FEED, {})}
+
+
+def stored_corrections(study):
+    """``(trial number, values, dz, screening error)`` of every COMPLETE trial
+    that stored a screening correction (:data:`CORRECTION`), for
+    :meth:`necflow.optimize.strategy.screen.Screening.absorb`."""
+    for t in study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,)):
+        c = t.user_attrs.get(CORRECTION)
+        if not c:
+            continue
+        dz = np.asarray(c["re"], dtype=float) + 1j * np.asarray(c["im"], dtype=float)
+        yield t.number, trial_values(t), dz, (t.user_attrs.get(SCREENING) or {}).get("error")
 
 
 def _alive(pid: int) -> bool:

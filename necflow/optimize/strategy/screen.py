@@ -28,9 +28,15 @@ estimate and is marked unconfirmed.  So the study's best trial is always a
 confirmed one: an unconfirmed estimate lies above the best cost at the time
 it was made, and the best cost only falls.  The margin is the larger of
 :data:`MARGIN` and twice the 90th percentile of the last :data:`RECENT`
-screening errors seen by this worker (relative, estimate against confirmed
+screening errors this worker has learned (relative, estimate against confirmed
 cost), so a screen that misjudges widens it and one that has learned the
 neighbourhood narrows it.
+
+A confirmed trial stores its correction in the study (the user attribute
+``necflow.correction``), and every worker learns the stored ones before
+each trial (:meth:`Screening.absorb`): the workers of one machine, those of
+others on a shared database, and a resumed session all screen with
+everything the study has solved in full.
 """
 
 from __future__ import annotations
@@ -102,6 +108,7 @@ class Screening:
         self.anchors, self.threshold, self.base_margin = anchors, threshold, margin
         self._x: list[np.ndarray] = []
         self._dz: list[np.ndarray] = []
+        self._seen: set = set()
         self.errors: list[float] = []
 
     def position(self, values: dict) -> np.ndarray:
@@ -132,16 +139,58 @@ class Screening:
                       ground=quick.wire_model.ground.kind)
 
     def learn(self, values: dict, screen: Screen, z_full: np.ndarray,
-              estimate: float | None = None, cost: float | None = None) -> None:
+              estimate: float | None = None, cost: float | None = None,
+              key=None) -> np.ndarray:
         """Keep the correction of a confirmed geometry, and the screening error
-        of its cost when it had a corrected estimate."""
-        self._x.append(self.position(values))
-        self._dz.append(np.asarray(z_full, dtype=complex) - screen.z_screen)
+        of its cost when it had a corrected estimate (``key``: the trial it came
+        from, so that :meth:`absorb` does not learn it twice); returns the
+        correction ``(nfreq,)``."""
+        error = None
+        if screen.corrected and estimate is not None and cost is not None and cost != 0:
+            error = abs(estimate - cost) / abs(cost)
+        dz = np.asarray(z_full, dtype=complex) - screen.z_screen
+        self._keep(self.position(values), dz, error, key)
+        return dz
+
+    def _keep(self, x: np.ndarray, dz: np.ndarray, error: float | None, key) -> None:
+        if key is not None:
+            if key in self._seen:
+                return
+            self._seen.add(key)
+        self._x.append(x)
+        self._dz.append(dz)
         if len(self._x) > KEEP:
             del self._x[0], self._dz[0]
-        if screen.corrected and estimate is not None and cost is not None and cost != 0:
-            self.errors.append(abs(estimate - cost) / abs(cost))
+        if error is not None:
+            self.errors.append(float(error))
             del self.errors[:-KEEP]
+
+    def absorb(self, learned) -> int:
+        """Learn the corrections other workers (or earlier sessions) stored.
+
+        Parameters
+        ----------
+        learned : iterable of (key, values, dz, error)
+            ``values`` the geometry fields of a confirmed geometry, ``dz`` its
+            stored correction (``(nfreq,)`` complex), ``error`` its screening
+            error or None; ``key`` names it (its trial), and one already
+            learned is skipped.
+
+        Returns
+        -------
+        int
+            Corrections learned now.
+        """
+        n = 0
+        for key, values, dz, error in learned:
+            if key in self._seen:
+                continue
+            dz = np.asarray(dz, dtype=complex)
+            if self._dz and dz.shape != self._dz[0].shape:
+                continue               # another frequency plan (cannot happen in one study)
+            self._keep(self.position(values), dz, error, key)
+            n += 1
+        return n
 
     @property
     def margin(self) -> float:

@@ -36,7 +36,8 @@ Methods (``StudyOptions.method``, recorded in the study's user attribute
   With one objective and no robust scoring, each geometry is first
   *screened* from few solves (a few frequencies per band, over the
   reflection-coefficient ground when the design's is Sommerfeld-Norton,
-  corrected by what the worker's full solves taught it): only a geometry
+  corrected by what the study's full solves taught, stored with each
+  confirmed trial): only a geometry
   whose estimate comes near the study's best is solved in full, and only a
   full solve's cost can be the best (:mod:`necflow.optimize.strategy.screen`;
   ``StudyOptions.screen`` False, ``--full-solves``, solves every geometry).
@@ -79,6 +80,7 @@ from necflow.optimize.problem.cost import score
 from necflow.optimize.problem.robust import robust_plan, robust_score
 from necflow.optimize.storage.backends import guard_resume, open_storage, study_lock
 from necflow.optimize.storage.bookkeeping import (
+    CORRECTION,
     COUNTED,
     DISCARDED,
     FAIL_REASON,
@@ -88,6 +90,7 @@ from necflow.optimize.storage.bookkeeping import (
     SOLVES,
     counted_trials,
     fail_orphans,
+    stored_corrections,
     take_slot,
 )
 from necflow.optimize.strategy.inner import FeedSearch
@@ -497,7 +500,9 @@ def run_trial(trial, base: Chain, space, robust=None, feed: FeedSearch | None = 
     if not all(math.isfinite(v) for v in result):
         raise TrialFailure(f"the cost is not finite: {result}")
     if feed is not None and screening is not None:
-        screening.learn(values, screen, geometry.antenna, quick.cost, sc.cost)
+        dz = screening.learn(values, screen, geometry.antenna, quick.cost, sc.cost,
+                             key=trial.number)
+        trial.set_user_attr(CORRECTION, {"re": dz.real.tolist(), "im": dz.imag.tolist()})
         record.update(confirmed=True, cost=sc.cost,
                       error=abs(quick.cost - sc.cost) / abs(sc.cost) if sc.cost else 0.0)
         if not screen.corrected:
@@ -604,6 +609,8 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
                 threading.Thread(target=_heartbeat, args=(storage, trial._trial_id, stop_beat),
                                  daemon=True).start()
             state, values, reason = TrialState.FAIL, None, None
+            if screening is not None:   # what other workers and sessions solved in full
+                screening.absorb(stored_corrections(study))
             try:
                 sig.in_trial = True
                 values = run_trial(trial, base, space, robust, feed, screening=screening,
