@@ -106,6 +106,8 @@ def leaderboard_csv(study, space, objectives) -> str:
             v = searched.get(p.path)
             if p.dimension and isinstance(v, float):
                 v = units.format_quantity(v, p.dimension).split()[0]
+            elif isinstance(v, float):
+                v = f"{v:.6g}"        # as the unit-carrying columns: six significant digits
             row.append(v)
         terms = t.user_attrs.get("necflow.terms", {})
         row += [f"{terms.get(k, math.nan):.6g}" for k in ("cost", "worst_swr", "loss_db")]
