@@ -600,6 +600,8 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
                 return "timeout reached"
             if options.trials is not None and len(counted_trials(study)) >= options.trials:
                 return "trial budget reached"
+            if screening is not None:   # what other workers and sessions solved in full
+                screening.absorb(stored_corrections(study))
             trial = take_slot(study, options.trials, lock_of(study, options), host, pid)
             if trial is None:  # the other places are held by running trials: wait for them
                 time.sleep(WAIT_S)
@@ -609,8 +611,6 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
                 threading.Thread(target=_heartbeat, args=(storage, trial._trial_id, stop_beat),
                                  daemon=True).start()
             state, values, reason = TrialState.FAIL, None, None
-            if screening is not None:   # what other workers and sessions solved in full
-                screening.absorb(stored_corrections(study))
             try:
                 sig.in_trial = True
                 values = run_trial(trial, base, space, robust, feed, screening=screening,
