@@ -78,7 +78,7 @@ def add_optimize_parsers(sub) -> None:
                    "parameter")
     o.add_argument("--full-solves", action="store_true", help="nested: solve every "
                    "geometry at every frequency over its own ground (no screening from few "
-                   "solves)")
+                   "solves, and so no local refinement on them)")
     o.add_argument("--no-cache", action="store_true", help="keep no solves on disk "
                    "(default: <run folder>/solves.sqlite, shared by workers and resumes)")
     o.add_argument("--json", action="store_true", help=JSON_HELP)
