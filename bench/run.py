@@ -62,7 +62,8 @@ the nested method does not reach the band there is no ratio.
 
 Solves per trial are engine frequency points per solved (COMPLETE) trial:
 for the plain loop counted in its solver; for the nested study from the
-trial user attribute ``necflow.solves`` (``{"screen": n, "full": n}``) when
+trial user attribute ``necflow.solves`` (``{"screen": n, "full": n}``, the local
+refinement's screened estimates counted in ``screen``) when
 present, else counted in the solver handed to ``run_study`` (one worker:
 every solve of the study goes through it).  The screening error (relative
 cost error of a confirmed trial, screened estimate against full solve:
