@@ -77,13 +77,14 @@ def trial_values(trial) -> dict:
             **trial.user_attrs.get(FEED, {})}
 
 
-def stored_corrections(study):
+def stored_corrections(study, skip=frozenset()):
     """``(trial number, values, dz, screening error)`` of every COMPLETE trial
-    that stored a screening correction (:data:`CORRECTION`), for
-    :meth:`necflow.optimize.strategy.screen.Screening.absorb`."""
+    that stored a screening correction (:data:`CORRECTION`) and whose number
+    is not in ``skip`` (those already learned: their lists are not decoded
+    again), for :meth:`necflow.optimize.strategy.screen.Screening.absorb`."""
     for t in study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,)):
         c = t.user_attrs.get(CORRECTION)
-        if not c:
+        if not c or t.number in skip:
             continue
         dz = np.asarray(c["re"], dtype=float) + 1j * np.asarray(c["im"], dtype=float)
         yield t.number, trial_values(t), dz, (t.user_attrs.get(SCREENING) or {}).get("error")

@@ -111,6 +111,11 @@ class Screening:
         self._seen: set = set()
         self.errors: list[float] = []
 
+    @property
+    def learned(self) -> frozenset:
+        """Keys (trial numbers) of the corrections learned so far."""
+        return frozenset(self._seen)
+
     def position(self, values: dict) -> np.ndarray:
         """Unit-cube coordinates of a geometry."""
         return np.array([p.to_unit(values[p.path]) for p in self.params], dtype=float)

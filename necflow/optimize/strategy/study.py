@@ -601,7 +601,7 @@ def worker_loop(design, space, options: StudyOptions, *, study=None, solver=None
             if options.trials is not None and len(counted_trials(study)) >= options.trials:
                 return "trial budget reached"
             if screening is not None:   # what other workers and sessions solved in full
-                screening.absorb(stored_corrections(study))
+                screening.absorb(stored_corrections(study, screening.learned))
             trial = take_slot(study, options.trials, lock_of(study, options), host, pid)
             if trial is None:  # the other places are held by running trials: wait for them
                 time.sleep(WAIT_S)
